@@ -1,0 +1,51 @@
+import type { SerializedError } from '../errors.js';
+import type { SurveyReadout } from '../io/types.js';
+import type { TallyOptions } from '../options.js';
+import type { ProgressEvent, TallyResult } from '../result.js';
+
+/**
+ * The worker protocol: a handful of typed messages. Requests carry an `id`;
+ * every reply names the request it answers. Files go in as Blob/File (the
+ * worker reads byte ranges from them) or ArrayBuffer (transferred). Results
+ * come back with every typed-array buffer in the transfer list.
+ */
+
+/** Input files: Blob/File in the browser, ArrayBuffer anywhere, a path string in Node. */
+export type SurveyInput = Blob | ArrayBuffer | string;
+
+/** Area of interest in file CRS units: a rectangle or polygon rings [[x,y],...]. */
+export type AreaOfInterest =
+  | { kind: 'rect'; minX: number; minY: number; maxX: number; maxY: number }
+  | { kind: 'polygon'; rings: number[][][] };
+
+export interface InspectRequest { type: 'inspect'; id: number; files: SurveyInput[]; names: string[]; crs?: string }
+export interface TallyRequest {
+  type: 'tally'; id: number; files: SurveyInput[]; names: string[];
+  options?: Partial<TallyOptions>;
+  /** "EPSG:NNNN" for files without a CRS. */
+  crs?: string;
+  aoi?: AreaOfInterest;
+}
+/**
+ * Recompute metrics for crowns after an edit (merge, add): the caller sends
+ * back the label grid (edited) and the DTM of a previous result; the worker
+ * makes a second pass over the points and returns a table of those labels.
+ */
+export interface RemeasureRequest {
+  type: 'remeasure'; id: number; files: SurveyInput[]; names: string[]; crs?: string;
+  options?: Partial<TallyOptions>;
+  labels: { width: number; height: number; cellSize: number; originX: number; originY: number; data: Int32Array };
+  chm: { width: number; height: number; cellSize: number; originX: number; originY: number; data: Float32Array };
+  dtm: { width: number; height: number; cellSize: number; originX: number; originY: number; data: Float32Array };
+  /** Tops per label (index = label - 1), CRS units. */
+  tops: { x: Float64Array; y: Float64Array };
+}
+export interface CancelRequest { type: 'cancel'; id: number }
+export type WorkerRequest = InspectRequest | TallyRequest | RemeasureRequest | CancelRequest;
+
+export interface ProgressReply { type: 'progress'; id: number; progress: ProgressEvent }
+export interface ReadoutReply { type: 'readout'; id: number; readouts: SurveyReadout[] }
+export interface ResultReply { type: 'result'; id: number; result: TallyResult }
+export interface RemeasureReply { type: 'remeasured'; id: number; trees: TallyResult['trees'] }
+export interface ErrorReply { type: 'error'; id: number; error: SerializedError }
+export type WorkerReply = ProgressReply | ReadoutReply | ResultReply | RemeasureReply | ErrorReply;
