@@ -18,13 +18,18 @@ export type AreaOfInterest =
   | { kind: 'rect'; minX: number; minY: number; maxX: number; maxY: number }
   | { kind: 'polygon'; rings: number[][][] };
 
-export interface InspectRequest { type: 'inspect'; id: number; files: SurveyInput[]; names: string[]; crs?: string }
+/** A built-in invented scenario, generated inside the worker instead of files. */
+export type DemoKind = 'park' | 'orchard';
+
+export interface InspectRequest { type: 'inspect'; id: number; files: SurveyInput[]; names: string[]; crs?: string; demo?: DemoKind }
 export interface TallyRequest {
   type: 'tally'; id: number; files: SurveyInput[]; names: string[];
   options?: Partial<TallyOptions>;
   /** "EPSG:NNNN" for files without a CRS. */
   crs?: string;
   aoi?: AreaOfInterest;
+  /** Process a built-in scenario instead of `files` (which is then empty). */
+  demo?: DemoKind;
 }
 /**
  * Recompute metrics for crowns after an edit (merge, add): the caller sends
