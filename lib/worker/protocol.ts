@@ -46,11 +46,26 @@ export interface RemeasureRequest {
   tops: { x: Float64Array; y: Float64Array };
 }
 export interface CancelRequest { type: 'cancel'; id: number }
-export type WorkerRequest = InspectRequest | TallyRequest | RemeasureRequest | CancelRequest;
+export type WorkerRequest = InspectRequest | TallyRequest | RemeasureRequest | CancelRequest | DecodeChunkRequest;
 
 export interface ProgressReply { type: 'progress'; id: number; progress: ProgressEvent }
 export interface ReadoutReply { type: 'readout'; id: number; readouts: SurveyReadout[] }
 export interface ResultReply { type: 'result'; id: number; result: TallyResult }
 export interface RemeasureReply { type: 'remeasured'; id: number; trees: TallyResult['trees'] }
 export interface ErrorReply { type: 'error'; id: number; error: SerializedError }
-export type WorkerReply = ProgressReply | ReadoutReply | ResultReply | RemeasureReply | ErrorReply;
+export type WorkerReply = ProgressReply | ReadoutReply | ResultReply | RemeasureReply | ErrorReply | DecodeChunkReply;
+
+/**
+ * Pool traffic: a LAZ chunk's compressed bytes in, its decoded points out.
+ * Both directions transfer their buffers.
+ */
+export interface DecodeChunkRequest {
+  type: 'decode-chunk'; id: number;
+  bytes: Uint8Array;
+  pointFormat: number; recordLength: number; pointCount: number;
+  /** Header facts the decoder needs to scale and check points. */
+  header: import('../io/types.js').LasHeader;
+  /** Colour scaling decided once per file (8-bit colour x257). */
+  colorScale?: number;
+}
+export interface DecodeChunkReply { type: 'chunk'; id: number; chunk: import('../io/types.js').PointChunk }
