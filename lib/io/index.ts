@@ -1,0 +1,11 @@
+export { blobSource, bufferSource, readExact } from './sources.js';
+export { readLasHeader, parseHeader, hasLasSignature, findLazVlr, POINT_RECORD_SIZES, HEADER_SIZE_1_0, HEADER_SIZE_1_3, HEADER_SIZE_1_4, LAZ_VLR_USER, LAZ_VLR_ID } from './las-header.js';
+export type { ParsedLas } from './las-header.js';
+export { decodeRecords, allocChunk, colourScaleFor, applyColourScale, lasChunks, CHUNK_POINTS } from './las-points.js';
+export { decodeLazChunk, decodeLazChunkPieces, lazChunks, lazPerfProvider, LazPerfHandle, checkChunkBounds } from './laz.js';
+export type { LazPerf, LazPerfProvider } from './laz.js';
+export { readLazChunkTable, encodeLazChunkTable, decodeChunkTableEntries, parseLazVlr, checkLazSupported, chunkTableOffset, VARIABLE_CHUNK_SIZE } from './laz-chunk-table.js';
+export type { LazChunkEntry, LazInfo, LazItem } from './laz-chunk-table.js';
+export { openPointCloud } from './open.js';
+export type { OpenOptions } from './open.js';
+export * from './types.js';

@@ -1,0 +1,59 @@
+/**
+ * Opens a point cloud: LAS or LAZ by the 'LASF' signature and the compression
+ * marks (format byte bits 6-7, laszip VLR), anything else as XYZ text.
+ */
+import { CrowntallyError } from '../errors.js';
+import type { ByteSource, CrsInfo, PointCloud, PointChunk, ReadOptions } from './types.js';
+import { findLazVlr, hasLasSignature, readLasHeader } from './las-header.js';
+import { lasChunks } from './las-points.js';
+import { LazPerfHandle, lazChunks, lazPerfProvider, type LazPerfProvider } from './laz.js';
+import { crsFromVlrs } from './crs.js';
+import { openXyz } from './xyz.js';
+
+export interface OpenOptions {
+  /** Force the reader instead of detecting it. */
+  kind?: 'las' | 'laz' | 'xyz';
+  /** Overrides the CRS recorded in the file. */
+  crs?: CrsInfo;
+  /** laz-perf loader; defaults to importing the `laz-perf` package (works in Node as is). */
+  lazPerf?: LazPerfProvider;
+}
+
+export async function openPointCloud(source: ByteSource, opts: OpenOptions = {}): Promise<PointCloud> {
+  if (source.size === 0) throw new CrowntallyError('NOT_LAS', `${source.name} is empty (0 bytes); choose a LAS, LAZ or XYZ file`);
+  const sig = await source.read(0, 4);
+  const isLas = hasLasSignature(sig);
+  const kind = opts.kind ?? (isLas ? undefined : 'xyz');
+  if (kind === 'xyz') return openXyz(source, opts.crs ? { crs: opts.crs } : {});
+  if (!isLas) throw new CrowntallyError('NOT_LAS', `${source.name} is not a LAS/LAZ file (it does not start with "LASF")`);
+  const { header, vlrs } = await readLasHeader(source);
+  const hasLazVlr = findLazVlr(vlrs) !== undefined;
+  const compressed = header.compressed || hasLazVlr || kind === 'laz';
+  if (compressed && !hasLazVlr) {
+    throw new CrowntallyError('BAD_HEADER', `${source.name}: marked as compressed but has no LAZ description record (user "laszip encoded", 22204)`);
+  }
+  if (kind === 'las' && compressed) {
+    throw new CrowntallyError('BAD_HEADER', `${source.name} is compressed (LAZ) but was opened as uncompressed LAS`);
+  }
+  const h = { ...header, compressed };
+  const crs = opts.crs ?? crsFromVlrs(vlrs, h);
+  const handle = compressed ? new LazPerfHandle(opts.lazPerf ?? lazPerfProvider()) : null;
+  let closed = false;
+  return {
+    kind: compressed ? 'laz' : 'las',
+    name: source.name,
+    header: h,
+    crs,
+    vlrs,
+    chunks(ro?: ReadOptions): AsyncIterable<PointChunk> {
+      if (closed) throw new CrowntallyError('INTERNAL', `${source.name} was read after close`);
+      return handle ? lazChunks(source, h, vlrs, handle, ro) : lasChunks(source, h, ro);
+    },
+    async close(): Promise<void> {
+      if (closed) return;
+      closed = true;
+      handle?.discard();
+      await source.close?.();
+    },
+  };
+}
