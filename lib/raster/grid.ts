@@ -80,3 +80,17 @@ export function cellCenterY(g: Grid<any>, row: number): number {
 export function view<T extends Float32Array | Int32Array | Uint8Array | Uint32Array>(g: Grid<T>) {
   return ndarray(g.data, [g.height, g.width]);
 }
+
+/** A grid's georeference without its values: what a stage needs to make a matching grid. */
+export type GridGeometry = Omit<Grid, 'data'>;
+
+/** Checks a geometry's fields and its size against the cell budget before anything is allocated. */
+export function checkGeometry(g: GridGeometry, maxCells = DEFAULT_MAX_CELLS, unitM = 1): void {
+  if (!(Number.isInteger(g.width) && g.width > 0 && Number.isInteger(g.height) && g.height > 0)) {
+    throw new CrowntallyError('BAD_OPTIONS', `grid width and height must be positive whole numbers (got ${g.width} x ${g.height})`);
+  }
+  if (!(Number.isFinite(g.originX) && Number.isFinite(g.originY))) {
+    throw new CrowntallyError('BAD_OPTIONS', `grid origin must be finite (got ${g.originX}, ${g.originY})`);
+  }
+  checkGridSize((g.width - 1) * g.cellSize, (g.height - 1) * g.cellSize, g.cellSize, maxCells, unitM);
+}

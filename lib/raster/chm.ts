@@ -1,0 +1,108 @@
+import { CrowntallyError } from '../errors.js';
+import type { Grid } from './grid.js';
+import { fillPits, type PitOptions } from './pits.js';
+
+export interface ChmOptions extends PitOptions {
+  /** Run the pit filter (lib/raster/pits.ts) after the difference. Default true. */
+  fillPits?: boolean;
+  /** Largest empty patch (m2) that is filled when canopy encloses it. Default 4 m2. */
+  maxHoleM2?: number;
+  /** Horizontal (CRS) unit to metres: the cell size is in CRS units. Default 1. */
+  horizontalUnitM?: number;
+}
+
+export interface ChmResult {
+  chm: Grid;
+  /** Empty DSM cells filled from the canopy around them. */
+  holesFilled: number;
+  /** Cells raised by the pit filter. */
+  pitsFilled: number;
+}
+
+/**
+ * Canopy height model (metres): DSM - DTM, clamped below at 0 (a highest
+ * return below the ground model is ground noise, not negative height).
+ *
+ * DSM cells with no return (NaN) get a height as follows (our own rule): an
+ * empty patch (8-connected) is filled when it is small (at most `maxHoleM2`),
+ * does not touch the grid edge, and every cell bordering it (8-neighbours) is
+ * canopy (>= canopyMinM, default 2 m): a dropout inside a crown. It takes the
+ * mean height of those border cells. Any other empty cell is 0: open ground,
+ * water that returned nothing, or outside the survey.
+ */
+export function canopyHeightModel(dsm: Grid, dtm: Grid, opts: ChmOptions = {}): ChmResult {
+  if (dsm.width !== dtm.width || dsm.height !== dtm.height || dsm.cellSize !== dtm.cellSize ||
+      dsm.originX !== dtm.originX || dsm.originY !== dtm.originY) {
+    throw new CrowntallyError('INTERNAL', 'the surface and ground grids must share one geometry');
+  }
+  const canopy = opts.canopyMinM ?? 2;
+  const maxHoleM2 = opts.maxHoleM2 ?? 4;
+  const unit = opts.horizontalUnitM ?? 1;
+  if (!(maxHoleM2 >= 0 && Number.isFinite(maxHoleM2))) throw new CrowntallyError('BAD_OPTIONS', `maxHoleM2 must be 0 or more (got ${maxHoleM2})`);
+  const { width: w, height: h } = dsm;
+  const n = w * h;
+  const cellM = dsm.cellSize * unit;
+  const maxHoleCells = Math.floor(maxHoleM2 / (cellM * cellM) + 1e-9);
+  const out = new Float32Array(n);
+  for (let k = 0; k < n; k++) {
+    const s = dsm.data[k], g = dtm.data[k];
+    if (Number.isNaN(s)) out[k] = NaN;
+    else out[k] = Number.isNaN(g) ? 0 : Math.max(0, s - g);
+  }
+  const holesFilled = fillEnclosedHoles(out, w, h, canopy, maxHoleCells);
+  let chm: Grid = { ...dsm, data: out };
+  let pitsFilled = 0;
+  if (opts.fillPits ?? true) {
+    const r = fillPits(chm, opts);
+    chm = r.grid;
+    pitsFilled = r.filled;
+  }
+  return { chm, holesFilled, pitsFilled };
+}
+
+/** The CHM grid alone (see canopyHeightModel). */
+export function canopyHeight(dsm: Grid, dtm: Grid, opts: ChmOptions = {}): Grid {
+  return canopyHeightModel(dsm, dtm, opts).chm;
+}
+
+/** Fills (in place) NaN patches enclosed by canopy; every other NaN becomes 0. Linear in cells. */
+function fillEnclosedHoles(d: Float32Array, w: number, h: number, canopy: number, maxCells: number): number {
+  const n = w * h;
+  const seen = new Uint8Array(n);
+  const patch = new Int32Array(n);
+  let filled = 0;
+  for (let start = 0; start < n; start++) {
+    if (seen[start] || !Number.isNaN(d[start])) continue;
+    // Flood the 8-connected empty patch; collect the border's sum and whether it is all canopy.
+    let len = 0, head = 0;
+    patch[len++] = start;
+    seen[start] = 1;
+    let enclosed = true, sum = 0, cnt = 0;
+    while (head < len) {
+      const k = patch[head++];
+      const r = (k / w) | 0, c = k - r * w;
+      if (r === 0 || c === 0 || r === h - 1 || c === w - 1) enclosed = false;
+      for (let dr = -1; dr <= 1; dr++) {
+        const rr = r + dr;
+        if (rr < 0 || rr >= h) continue;
+        for (let dc = -1; dc <= 1; dc++) {
+          const cc = c + dc;
+          if (cc < 0 || cc >= w || (dr === 0 && dc === 0)) continue;
+          const j = rr * w + cc;
+          const v = d[j];
+          if (Number.isNaN(v)) {
+            if (!seen[j]) { seen[j] = 1; patch[len++] = j; }
+          } else {
+            // Border cells may be counted more than once; the mean stays a fair border average.
+            if (v < canopy) enclosed = false;
+            sum += v; cnt++;
+          }
+        }
+      }
+    }
+    const fill = enclosed && len <= maxCells && cnt > 0 ? sum / cnt : 0;
+    if (fill > 0) filled += len;
+    for (let i = 0; i < len; i++) d[patch[i]] = fill;
+  }
+  return filled;
+}
