@@ -67,7 +67,7 @@ describe('treesToGeoJSON', () => {
   table.columns.intensity_mean[1] = NaN;
   const toLonLat = lonLatOf(UTM33);
   const text = treesToGeoJSON(table, toLonLat, {
-    extra: (i) => (i === 0 ? { species: 'Quercus robur', condition: 'fair', notes: 'near the bench', edited: true } : {}),
+    extra: (i): Record<string, string | boolean> => (i === 0 ? { species: 'Quercus robur', condition: 'fair', notes: 'near the bench', edited: true } : {}),
   });
   const fc = JSON.parse(text);
 
