@@ -45,6 +45,7 @@ export async function openPointCloud(source: ByteSource, opts: OpenOptions = {})
     header: h,
     crs,
     vlrs,
+    source,
     chunks(ro?: ReadOptions): AsyncIterable<PointChunk> {
       if (closed) throw new CrowntallyError('INTERNAL', `${source.name} was read after close`);
       return handle ? lazChunks(source, h, vlrs, handle, ro) : lasChunks(source, h, ro);

@@ -109,6 +109,8 @@ export interface PointCloud {
   readonly header: LasHeader;
   readonly crs: CrsInfo;
   readonly vlrs: Vlr[];
+  /** The bytes behind the cloud (LAS/LAZ), for readers that fetch ranges themselves (the chunk pool). */
+  readonly source?: ByteSource;
   /** Streams the points; may be called more than once (a second pass decodes again). */
   chunks(opts?: ReadOptions): AsyncIterable<PointChunk>;
   close(): Promise<void>;

@@ -65,7 +65,7 @@ export interface DecodeChunkRequest {
   pointFormat: number; recordLength: number; pointCount: number;
   /** Header facts the decoder needs to scale and check points. */
   header: import('../io/types.js').LasHeader;
-  /** Colour scaling decided once per file (8-bit colour x257). */
-  colorScale?: number;
+  /** Names the chunk in error messages. */
+  label?: string;
 }
 export interface DecodeChunkReply { type: 'chunk'; id: number; chunk: import('../io/types.js').PointChunk }

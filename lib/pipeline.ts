@@ -1,0 +1,342 @@
+/**
+ * The job, stage by stage: points -> surfaces -> ground -> DTM -> CHM ->
+ * treetops -> crowns -> non-tree rejection -> outlines -> per-tree metrics.
+ * This module only orders the stages, streams the points, reports progress
+ * and checks the abort signal; each stage lives in its own module.
+ */
+import { aoiBounds, markInside, rectIntersect, type Rect } from './aoi.js';
+import { CrowntallyError, throwIfAborted } from './errors.js';
+import { chunkBytes, subsetChunk } from './io/chunks.js';
+import { crsFromUserText } from './io/crs.js';
+import { openPointCloud, type LazPerfProvider } from './io/open.js';
+import { ReadoutAccumulator } from './io/readout.js';
+import type { ByteSource, CrsInfo, PointChunk, PointCloud, SurveyReadout } from './io/types.js';
+import { resolveOptions, type TallyOptions } from './options.js';
+import { defaultCellSizeM } from './raster/cellsize.js';
+import { checkGeometry, type Grid, type GridGeometry } from './raster/grid.js';
+import { SurfaceAccumulator } from './raster/surfaces.js';
+import { groundFromFilter } from './ground/index.js';
+import { tinDtm } from './raster/tin.js';
+import { canopyHeight } from './raster/chm.js';
+import { gaussianSmooth } from './raster/smooth.js';
+import type { ProgressEvent, TallyResult } from './result.js';
+import { findTreetops, type Treetops } from './trees/treetops.js';
+import { growCrowns } from './trees/crowns.js';
+import { rejectNonTrees } from './trees/nontree.js';
+import { traceOutlines } from './trees/outlines.js';
+import { TreeMetricsAccumulator } from './trees/metrics.js';
+import { ProfileAccumulator, surveySummary } from './trees/summary.js';
+import { windowDiameterM } from './trees/window.js';
+import type { TreeTable } from './trees/table.js';
+import type { AreaOfInterest } from './worker/protocol.js';
+import { mergeReadouts } from './io/readout-merge.js';
+import { ChunkStreamer, type ChunkDecoder } from './io/chunk-stream.js';
+
+export interface TallyRun {
+  options?: Partial<TallyOptions>;
+  /** "EPSG:NNNN" for files without a CRS. */
+  crs?: string;
+  aoi?: AreaOfInterest;
+  signal?: AbortSignal;
+  onProgress?: (p: ProgressEvent) => void;
+  lazPerf?: LazPerfProvider;
+  /** Decodes LAZ chunks elsewhere (a worker pool); absent: in this thread. */
+  chunkDecoder?: ChunkDecoder;
+  /** Tiles: only points inside `clip` are read, only trees whose top lies in `keep` are kept. */
+  clip?: Rect;
+  keep?: Rect;
+}
+
+/** Stage weights for the progress fraction (reading dominates). */
+const W = { read: 0.45, ground: 0.05, dtm: 0.07, chm: 0.05, treetops: 0.05, crowns: 0.05, outlines: 0.03, metrics: 0.25 };
+const ORDER = ['read', 'ground', 'dtm', 'chm', 'treetops', 'crowns', 'outlines', 'metrics'] as const;
+
+function progressReporter(run: TallyRun, pointsTotal: number) {
+  let pointsRead = 0;
+  const base = (stage: (typeof ORDER)[number]) => {
+    let f = 0;
+    for (const s of ORDER) { if (s === stage) break; f += W[s]; }
+    return f;
+  };
+  return {
+    set points(n: number) { pointsRead = n; },
+    report(stage: (typeof ORDER)[number], within: number): void {
+      throwIfAborted(run.signal);
+      run.onProgress?.({ stage, fraction: Math.min(1, base(stage) + W[stage] * Math.min(1, Math.max(0, within))), pointsRead, pointsTotal });
+    },
+  };
+}
+
+/** Opens every input; a CRS given by the caller overrides the files'. */
+export async function openInputs(inputs: ByteSource[], run: Pick<TallyRun, 'crs' | 'lazPerf'>): Promise<PointCloud[]> {
+  if (inputs.length === 0) throw new CrowntallyError('EMPTY', 'no survey files were given');
+  const crs = run.crs ? crsFromUserText(run.crs) : undefined;
+  const clouds: PointCloud[] = [];
+  try {
+    for (const s of inputs) clouds.push(await openPointCloud(s, { ...(crs ? { crs } : {}), ...(run.lazPerf ? { lazPerf: run.lazPerf } : {}) }));
+  } catch (e) {
+    await Promise.all(clouds.map((c) => c.close()));
+    throw e;
+  }
+  const u = clouds[0]!.crs.unitM;
+  for (const c of clouds) {
+    if (Math.abs(c.crs.unitM - u) > 1e-12 || c.crs.epsg !== clouds[0]!.crs.epsg) {
+      await Promise.all(clouds.map((k) => k.close()));
+      throw new CrowntallyError('BAD_OPTIONS', `${c.name} is in a different CRS from ${clouds[0]!.name}; tiles processed together must share one CRS`);
+    }
+  }
+  return clouds;
+}
+
+/** The read-out of each input, streaming each once. */
+export async function inspectInputs(inputs: ByteSource[], run: Pick<TallyRun, 'crs' | 'lazPerf' | 'signal' | 'chunkDecoder'>): Promise<SurveyReadout[]> {
+  const clouds = await openInputs(inputs, run);
+  try {
+    const out: SurveyReadout[] = [];
+    for (const c of clouds) {
+      const acc = new ReadoutAccumulator(c);
+      for await (const chunk of new ChunkStreamer(c, run.chunkDecoder).chunks(run.signal)) acc.add(chunk);
+      out.push(acc.finish());
+    }
+    return out;
+  } finally {
+    await Promise.all(clouds.map((c) => c.close()));
+  }
+}
+
+function unionBounds(clouds: PointCloud[]): Rect {
+  const r = { minX: Infinity, minY: Infinity, maxX: -Infinity, maxY: -Infinity };
+  for (const c of clouds) {
+    const b = c.header.bounds;
+    r.minX = Math.min(r.minX, b.minX); r.minY = Math.min(r.minY, b.minY);
+    r.maxX = Math.max(r.maxX, b.maxX); r.maxY = Math.max(r.maxY, b.maxY);
+  }
+  return r;
+}
+
+/**
+ * Cell size: the user's, or the density rule of lib/raster/cellsize.ts with
+ * first returns per m2 over the header's bounding box (known before the
+ * points are read; over occupied cells it would be higher, so this errs to
+ * the coarser cell).
+ */
+export function chooseCellSizeM(clouds: PointCloud[], options: TallyOptions, area?: Rect): number {
+  if (options.cellSizeM !== 'auto') return options.cellSizeM;
+  const b = area ?? unionBounds(clouds);
+  const unitM = clouds[0]!.crs.unitM;
+  let first = 0;
+  for (const c of clouds) first += c.header.pointsByReturn[0] || c.header.pointCount;
+  const areaM2 = Math.max(1, (b.maxX - b.minX) * (b.maxY - b.minY) * unitM * unitM);
+  return defaultCellSizeM(first / areaM2);
+}
+
+/** A grid geometry covering `r`, cells aligned to whole multiples of the cell size (so tiles and the whole share cells). */
+export function geometryFor(r: Rect, cellSize: number): GridGeometry {
+  const originX = Math.floor(r.minX / cellSize) * cellSize;
+  const originY = Math.ceil(r.maxY / cellSize) * cellSize;
+  const width = Math.max(1, Math.floor((r.maxX - originX) / cellSize) + 1);
+  const height = Math.max(1, Math.floor((originY - r.minY) / cellSize) + 1);
+  return { width, height, cellSize, originX, originY };
+}
+
+/** Reach used by the crowns and the tile buffer: the option, or the window at the top's height. */
+function largestReachM(o: TallyOptions, maxHeightM: number): number {
+  return o.crownReachM === 'auto' ? windowDiameterM(o.window, maxHeightM) : o.crownReachM;
+}
+
+/** Runs the whole job over one area (all inputs together, as one survey). */
+export async function tally(inputs: ByteSource[], run: TallyRun = {}): Promise<TallyResult> {
+  const options = resolveOptions(run.options);
+  const clouds = await openInputs(inputs, run);
+  try {
+    return await tallyClouds(clouds, options, run);
+  } finally {
+    await Promise.all(clouds.map((c) => c.close()));
+  }
+}
+
+export async function tallyClouds(clouds: PointCloud[], options: TallyOptions, run: TallyRun): Promise<TallyResult> {
+  const crs: CrsInfo = clouds[0]!.crs;
+  const unitM = crs.unitM;
+  const vu = crs.verticalUnitM;
+  const warnings: string[] = [];
+
+  let area: Rect | null = unionBounds(clouds);
+  const polygon = run.aoi?.kind === 'polygon' ? run.aoi.rings : undefined;
+  if (run.aoi) area = rectIntersect(area, aoiBounds(run.aoi));
+  if (run.clip) area = area && rectIntersect(area, run.clip);
+  if (!area) throw new CrowntallyError('EMPTY', 'the area of interest does not overlap the survey');
+  // Half-open edges in markInside: widen by a hair so the survey's own max points stay in.
+  const readRect: Rect = { ...area, maxX: area.maxX + 1e-9 * Math.max(1, Math.abs(area.maxX)), maxY: area.maxY + 1e-9 * Math.max(1, Math.abs(area.maxY)) };
+  const clipping = Boolean(run.aoi || run.clip);
+
+  const cellSizeM = chooseCellSizeM(clouds, options, run.clip ? undefined : area);
+  const cellSize = cellSizeM / unitM;
+  const geometry = geometryFor(area, cellSize);
+  checkGeometry(geometry, options.maxGridCells, unitM);
+
+  const pointsTotal = clouds.reduce((s, c) => s + c.header.pointCount, 0);
+  const progress = progressReporter(run, pointsTotal);
+  progress.report('read', 0);
+
+  // Pass 1: read-out, surfaces, and the point cache while it fits the budget.
+  const readouts = clouds.map((c) => new ReadoutAccumulator(c));
+  const surfaces = new SurfaceAccumulator(geometry, { verticalUnitM: vu, dropOverlap: options.dropOverlap });
+  const budget = options.pointCacheMiB * 1024 * 1024;
+  let cache: PointChunk[] | null = budget > 0 ? [] : null;
+  let cacheBytes = 0;
+  let read = 0;
+  let keep = new Uint8Array(0);
+  for (let i = 0; i < clouds.length; i++) {
+    for await (let chunk of new ChunkStreamer(clouds[i]!, run.chunkDecoder).chunks(run.signal)) {
+      readouts[i]!.add(chunk);
+      read += chunk.count;
+      if (clipping) {
+        if (keep.length < chunk.count) keep = new Uint8Array(chunk.count);
+        const n = markInside(chunk, readRect, keep, polygon);
+        chunk = n === chunk.count ? chunk : subsetChunk(chunk, keep, n);
+      }
+      if (chunk.count > 0) {
+        surfaces.add(chunk);
+        if (cache) {
+          cacheBytes += chunkBytes(chunk);
+          if (cacheBytes <= budget) cache.push(chunk);
+          else cache = null; // over budget: decode again in pass 2
+        }
+      }
+      progress.points = read;
+      progress.report('read', pointsTotal > 0 ? read / pointsTotal : 1);
+    }
+  }
+  const readout = mergeReadouts(readouts.map((r) => r.finish()));
+  const s = surfaces.finish();
+  if (s.pointsUsed === 0) {
+    throw new CrowntallyError('EMPTY', clipping
+      ? 'no usable points inside the area of interest (noise, withheld and overlap points are left out)'
+      : 'the survey has no usable points (all are noise, withheld or overlap)');
+  }
+  if (s.outliersRemoved > 0) warnings.push(`${s.outliersRemoved} isolated high returns (birds, multipath) were left out of the canopy surface`);
+
+  // Ground.
+  progress.report('ground', 0);
+  let ground = s.groundPoints;
+  const useClass = options.ground === 'class' || (options.ground === 'auto' && s.groundPoints.count >= 3);
+  if (options.ground === 'class' && s.groundPoints.count === 0) {
+    throw new CrowntallyError('NO_GROUND', 'the survey has no ground-class (2) points; choose the ground filter instead of the ground class');
+  }
+  if (!useClass) {
+    ground = groundFromFilter(s, { unitM });
+    if (options.ground === 'auto') warnings.push('the survey has no ground class: ground was found by the progressive morphological filter');
+  }
+  if (ground.count === 0) throw new CrowntallyError('NO_GROUND', 'no ground could be found under the survey, so heights above ground cannot be measured');
+
+  progress.report('dtm', 0);
+  const dtm = tinDtm(ground, geometry);
+  progress.report('chm', 0);
+  const chm = canopyHeight(s.dsm, dtm, { fillPits: options.fillPits });
+  const sigmaCells = options.smoothSigmaM / cellSizeM;
+  const chmTops = sigmaCells > 0 ? gaussianSmooth(chm, sigmaCells) : chm;
+
+  progress.report('treetops', 0);
+  let tops: Treetops = findTreetops(chmTops, { minHeightM: options.minHeightM, window: options.window, unitM });
+  progress.report('crowns', 0);
+  let labels = growCrowns(chm, tops, {
+    minHeightM: options.minHeightM, floorFraction: options.crownFloorFraction,
+    reachM: options.crownReachM, window: options.window, unitM,
+  });
+  const nt = rejectNonTrees(labels, tops, { dsm: s.dsm, chm, pointCount: s.count, buildingCount: s.buildingCount, unitM, hasBuildingClass: s.hasBuildingClass });
+  labels = nt.labels; tops = nt.tops;
+  if (nt.removed > 0) warnings.push(`${nt.removed} candidate crowns were roofs or other flat surfaces and were left out`);
+  if (run.keep) ({ labels, tops } = keepTopsIn(labels, tops, run.keep));
+
+  progress.report('outlines', 0);
+  const outlines = traceOutlines(labels, tops.count);
+
+  // Pass 2: each point to its crown.
+  progress.report('metrics', 0);
+  const hasReturns = readout.returns['0'] !== readout.points;
+  const metrics = new TreeMetricsAccumulator(labels, dtm, tops, { profileLayerM: options.profileLayerM, verticalUnitM: vu, unitM, hasReturns, hasRgb: readout.hasRgb, chm });
+  const profile = new ProfileAccumulator(dtm, { layerM: options.profileLayerM, verticalUnitM: vu });
+  let done = 0;
+  const feed = (c: PointChunk) => { metrics.add(c); profile.add(c); done += c.count; progress.report('metrics', done / Math.max(1, read)); };
+  if (cache) {
+    for (const c of cache) feed(c);
+  } else {
+    for (const cloud of clouds) {
+      for await (let chunk of new ChunkStreamer(cloud, run.chunkDecoder).chunks(run.signal)) {
+        if (clipping) {
+          if (keep.length < chunk.count) keep = new Uint8Array(chunk.count);
+          const n = markInside(chunk, readRect, keep, polygon);
+          chunk = n === chunk.count ? chunk : subsetChunk(chunk, keep, n);
+        }
+        feed(chunk);
+      }
+    }
+  }
+  const trees: TreeTable = metrics.finish(outlines);
+  const summary = surveySummary(trees, chm, { minHeightM: options.minHeightM, unitM }, profile.finish());
+  if (trees.count === 0) warnings.push(`no trees of at least ${options.minHeightM} m were found`);
+  if (readout.firstReturnDensityPerM2 < 2) warnings.push(`low point density (${readout.firstReturnDensityPerM2.toFixed(1)} first returns per m2): small trees may be missed and crowns merged`);
+  for (const w of readout.warnings) if (!warnings.includes(w)) warnings.push(w);
+  run.onProgress?.({ stage: 'done', fraction: 1, pointsRead: read, pointsTotal });
+  return { readout, crs, options: { ...options, cellSizeM }, chm, dtm, labels, trees, summary, warnings };
+}
+
+/** Drops trees whose top lies outside `keep` (tiles) and renumbers labels compactly. */
+function keepTopsIn(labels: Grid<Int32Array>, tops: Treetops, keep: Rect): { labels: Grid<Int32Array>; tops: Treetops } {
+  const remap = new Int32Array(tops.count + 1);
+  let n = 0;
+  for (let i = 0; i < tops.count; i++) {
+    const x = tops.x[i]!, y = tops.y[i]!;
+    if (x >= keep.minX && x < keep.maxX && y >= keep.minY && y < keep.maxY) remap[i + 1] = ++n;
+  }
+  const pick = <T extends Int32Array | Float64Array | Float32Array>(a: T): T => {
+    const out = new (a.constructor as { new (k: number): T })(n);
+    for (let i = 0; i < tops.count; i++) if (remap[i + 1]) out[remap[i + 1]! - 1] = a[i]!;
+    return out;
+  };
+  const nt: Treetops = { count: n, col: pick(tops.col), row: pick(tops.row), x: pick(tops.x), y: pick(tops.y), heightM: pick(tops.heightM) };
+  const d = labels.data;
+  for (let k = 0; k < d.length; k++) d[k] = remap[d[k]!]!;
+  return { labels, tops: nt };
+}
+
+/**
+ * Metrics again for edited crowns (merge, add): a second pass over the
+ * points with the caller's label grid, DTM and tops.
+ */
+export async function remeasure(inputs: ByteSource[], run: TallyRun & {
+  labels: Grid<Int32Array>; dtm: Grid; chm: Grid; tops: { x: Float64Array; y: Float64Array };
+}): Promise<TreeTable> {
+  const options = resolveOptions(run.options);
+  const clouds = await openInputs(inputs, run);
+  try {
+    const crs = clouds[0]!.crs;
+    const count = run.tops.x.length;
+    const col = new Int32Array(count), row = new Int32Array(count), heightM = new Float32Array(count);
+    const g = run.labels;
+    for (let i = 0; i < count; i++) {
+      col[i] = Math.min(g.width - 1, Math.max(0, Math.floor((run.tops.x[i]! - g.originX) / g.cellSize)));
+      row[i] = Math.min(g.height - 1, Math.max(0, Math.floor((g.originY - run.tops.y[i]!) / g.cellSize)));
+      heightM[i] = run.chm.data[row[i]! * g.width + col[i]!]!;
+    }
+    const tops: Treetops = { count, col, row, x: Float64Array.from(run.tops.x), y: Float64Array.from(run.tops.y), heightM };
+    const outlines = traceOutlines(run.labels, count);
+    let hasReturns = false, hasRgb = false;
+    for (const c of clouds) { hasRgb ||= [2, 3, 5, 7, 8, 10].includes(c.header.pointFormat) && c.kind !== 'xyz'; }
+    const metrics = new TreeMetricsAccumulator(run.labels, run.dtm, tops, { profileLayerM: options.profileLayerM, verticalUnitM: crs.verticalUnitM, unitM: crs.unitM, hasReturns: true, hasRgb, chm: run.chm });
+    for (const cloud of clouds) {
+      for await (const chunk of new ChunkStreamer(cloud, run.chunkDecoder).chunks(run.signal)) {
+        for (let i = 0; i < chunk.count && !hasReturns; i++) if (chunk.returnNumber[i]! > 0) hasReturns = true;
+        metrics.add(chunk);
+      }
+    }
+    const t = metrics.finish(outlines);
+    if (!hasReturns) t.hasReturns = false;
+    return t;
+  } finally {
+    await Promise.all(clouds.map((c) => c.close()));
+  }
+}
+
+export { largestReachM };
