@@ -102,6 +102,10 @@ function checkGrid(g: Grid): void {
   if (!(Number.isInteger(g.width) && Number.isInteger(g.height) && g.width > 0 && g.height > 0)) {
     throw new CrowntallyError('EMPTY', `the CHM has no cells (${g.width} x ${g.height}); nothing to write`);
   }
+  // Classic TIFF addresses 4 GiB; refuse before allocating the file buffer.
+  if (g.width * g.height * 4 + 4096 > 0xffff_ffff) {
+    throw new CrowntallyError('TOO_LARGE', `the CHM (${g.width} x ${g.height} cells) would make a GeoTIFF over the 4 GiB of classic TIFF; use a larger cell size or tiles`);
+  }
   if (!(g.data instanceof Float32Array) || g.data.length !== g.width * g.height) {
     throw new CrowntallyError('INTERNAL', `the CHM holds ${g.data.length} values for ${g.width} x ${g.height} cells`);
   }
