@@ -12,7 +12,8 @@
 import { CrowntallyError, throwIfAborted } from '../errors.js';
 import type { ByteSource, LasHeader, PointChunk, ReadOptions, Vlr } from './types.js';
 import { CHUNK_POINTS, allocChunk, applyColourScale, colourScaleFor, decodeRecords } from './las-points.js';
-import { readLazChunkTable } from './laz-chunk-table.js';
+import { VARIABLE_CHUNK_SIZE, parseLazVlr, readLazChunkTable } from './laz-chunk-table.js';
+import { findLazVlr } from './las-header.js';
 import { readExact } from './sources.js';
 
 /** The part of the laz-perf Emscripten module this reader uses. */
@@ -170,10 +171,17 @@ function* decodeStream(lp: LazPerf, file: Uint8Array, header: LasHeader, label: 
   }
 }
 
+/** End of the point data: the first EVLR (LAS 1.4) or the end of the file. */
+function dataEnd(source: ByteSource, header: LasHeader, vlrs: Vlr[]): number {
+  let e = source.size;
+  for (const v of vlrs) if (v.extended && v.dataOffset - 60 > header.offsetToPointData) e = Math.min(e, v.dataOffset - 60);
+  return e;
+}
+
 /** Streams the points of a LAZ file chunk by chunk. */
 export async function* lazChunks(source: ByteSource, header: LasHeader, vlrs: Vlr[], handle: LazPerfHandle,
   opts: ReadOptions = {}): AsyncGenerator<PointChunk> {
-  const table = await readLazChunkTable(source, header, vlrs);
+  let table = await readLazChunkTable(source, header, vlrs);
   if (table && table.length === 0) return;
   const total = header.pointCount;
   let scale = 0;
@@ -186,18 +194,28 @@ export async function* lazChunks(source: ByteSource, header: LasHeader, vlrs: Vl
     return c;
   };
   if (table === null) {
-    if (source.size > MAX_STREAM_BYTES) {
-      throw new CrowntallyError('TOO_LARGE', `${source.name}: this LAZ file has no chunk table and is too large to decode as one stream; recompress it with a chunked LAZ writer`);
+    // No chunk table. A file of one chunk decodes from the first chunk byte on;
+    // otherwise LASZip gets the whole stream (it finds tables we could not, or fails).
+    const info = parseLazVlr(findLazVlr(vlrs)!, source.name);
+    const first = header.offsetToPointData + 8;
+    if (info.chunkSize !== VARIABLE_CHUNK_SIZE && total <= info.chunkSize) {
+      table = [{ offset: first, byteLength: dataEnd(source, header, vlrs) - first, pointCount: total }];
+    } else {
+      if (source.size > MAX_STREAM_BYTES) {
+        throw new CrowntallyError('TOO_LARGE', `${source.name}: this LAZ file has no chunk table and is too large to decode as one stream; recompress it with a chunked LAZ writer`);
+      }
+      const file = await readExact(source, 0, source.size, 'LAZ file');
+      const lp = await handle.get();
+      try {
+        for (const c of decodeStream(lp, file, header, source.name)) { throwIfAborted(opts.signal); yield emit(c); }
+      } catch (e) {
+        handle.discard();
+        if (e instanceof CrowntallyError && e.code !== 'CORRUPT_LAZ') throw e;
+        throw new CrowntallyError('CORRUPT_LAZ',
+          `${source.name}: this LAZ file has no chunk table (it was cut short or written as a stream) and its ${total} points could not be decoded without one; recompress the file or copy it again`);
+      }
+      return;
     }
-    const file = await readExact(source, 0, source.size, 'LAZ file');
-    const lp = await handle.get();
-    try {
-      for (const c of decodeStream(lp, file, header, source.name)) { throwIfAborted(opts.signal); yield emit(c); }
-    } catch (e) {
-      if (!(e instanceof CrowntallyError) || e.code === 'CORRUPT_LAZ') handle.discard();
-      throw e;
-    }
-    return;
   }
   for (let i = 0; i < table.length; i++) {
     throwIfAborted(opts.signal);
