@@ -1,4 +1,6 @@
-import { readFileSync } from 'node:fs';
+import { spawnSync } from 'node:child_process';
+import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { fromArrayBuffer, globals } from 'geotiff';
@@ -73,6 +75,32 @@ describe('chmToGeoTIFF', () => {
     expect(keys.GTModelTypeGeoKey).toBe(1);
     expect(keys.GTRasterTypeGeoKey).toBe(1); // RasterPixelIsArea
     expect(keys.GeographicTypeGeoKey).toBeUndefined();
+  });
+
+  it('reads back with tifffile (Debian python3-tifffile), a second TIFF reader', () => {
+    const g = sampleGrid();
+    const file = path.join(mkdtempSync(path.join(tmpdir(), 'crowntally-tif-')), 'chm.tif');
+    writeFileSync(file, new Uint8Array(chmToGeoTIFF(g, crs({ epsg: 32633 }))));
+    const script = [
+      'import json, sys, math, tifffile',
+      'with tifffile.TiffFile(sys.argv[1]) as t:',
+      '    p = t.pages[0]; a = p.asarray()',
+      '    tags = {k: p.tags[k].value for k in (33550, 33922, 34735, 42113)}',
+      '    print(json.dumps({"shape": list(a.shape), "dtype": str(a.dtype),',
+      '        "values": [None if math.isnan(v) else float(v) for v in a.ravel().tolist()],',
+      '        "scale": list(tags[33550]), "tie": list(tags[33922]), "keys": list(tags[34735]), "nodata": tags[42113]}))',
+    ].join('\n');
+    const r = spawnSync('/usr/bin/python3', ['-c', script, file], { encoding: 'utf8' });
+    if (r.status !== 0) throw new Error(`tifffile reference failed (is Debian python3-tifffile installed?): ${r.stderr}`);
+    const out = JSON.parse(r.stdout);
+    // TIFF 6.0 + GeoTIFF 1.1 tags as read by tifffile
+    expect(out.shape).toEqual([g.height, g.width]);
+    expect(out.dtype).toBe('float32');
+    expect(out.values).toEqual(Array.from(g.data, (v) => (Number.isNaN(v) ? null : v)));
+    expect(out.scale).toEqual([g.cellSize, g.cellSize, 0]);
+    expect(out.tie).toEqual([0, 0, 0, g.originX, g.originY, 0]);
+    expect(out.keys).toEqual([1, 1, 0, 3, 1024, 0, 1, 1, 1025, 0, 1, 1, 3072, 0, 1, 32633]);
+    expect(out.nodata).toBe('nan');
   });
 
   it('writes a geographic key for a longitude/latitude CRS', async () => {
