@@ -121,6 +121,9 @@ export async function chunkTableOffset(source: ByteSource, header: LasHeader): P
     const t = await readExact(source, source.size - 8, 8, 'LAZ chunk table offset');
     off = Number(new DataView(t.buffer, t.byteOffset, 8).getBigInt64(0, true));
   }
+  if (off > source.size && p[7] === 0) {
+    throw new CrowntallyError('TRUNCATED', `${source.name}: the LAZ chunk table should be at byte ${off} but the file has ${source.size} bytes; the file is cut short, copy it again`);
+  }
   if (!(off >= start + 8) || off + 8 > source.size) return null;
   return off;
 }
@@ -149,7 +152,7 @@ export async function readLazChunkTable(source: ByteSource, header: LasHeader, v
   // Every chunk holds at least one point and one byte: bound the count before allocating.
   if (n === 0 || n > header.pointCount || n > tableAt - first) throw corrupt(src, `${n} chunks for ${header.pointCount} points`);
   if (!variable && (info.chunkSize === 0 || Math.ceil(header.pointCount / info.chunkSize) !== n)) {
-    throw corrupt(src, `${n} chunks of ${info.chunkSize} points cannot hold ${header.pointCount} points`);
+    throw new CrowntallyError('BAD_HEADER', `${src}: the header's point count ${header.pointCount} disagrees with the LAZ chunk table (${n} chunks of ${info.chunkSize} points)`);
   }
   // At most ~10 bytes per coded entry: read no more than that.
   const coded = await source.read(tableAt + 8, Math.min(source.size - tableAt - 8, 16 + 12 * n));

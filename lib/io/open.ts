@@ -36,6 +36,12 @@ export async function openPointCloud(source: ByteSource, opts: OpenOptions = {})
     throw new CrowntallyError('BAD_HEADER', `${source.name} is compressed (LAZ) but was opened as uncompressed LAS`);
   }
   const h = { ...header, compressed };
+  if (!compressed && header.offsetToPointData + header.pointCount * header.pointRecordLength > source.size) {
+    const fit = Math.floor((source.size - header.offsetToPointData) / header.pointRecordLength);
+    throw new CrowntallyError('TRUNCATED',
+      `${source.name}: the header promises ${header.pointCount} points but the file holds only ${fit}; the file is cut short or its header is wrong`,
+      { pointCount: header.pointCount, pointsInFile: fit });
+  }
   const crs = opts.crs ?? crsFromVlrs(vlrs, h);
   const handle = compressed ? new LazPerfHandle(opts.lazPerf ?? lazPerfProvider()) : null;
   let closed = false;
