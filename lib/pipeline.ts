@@ -45,6 +45,8 @@ export interface TallyRun {
   /** Tiles: only points inside `clip` are read, only trees whose top lies in `keep` are kept. */
   clip?: Rect;
   keep?: Rect;
+  /** Stop at once when the survey's CRS is unknown (outputs need lon/lat). */
+  requireCrs?: boolean;
 }
 
 /** Stage weights for the progress fraction (reading dominates). */
@@ -157,6 +159,9 @@ export async function tally(inputs: ByteSource[], run: TallyRun = {}): Promise<T
 
 export async function tallyClouds(clouds: PointCloud[], options: TallyOptions, run: TallyRun): Promise<TallyResult> {
   const crs: CrsInfo = clouds[0]!.crs;
+  if (run.requireCrs && !crs.proj4) {
+    throw new CrowntallyError('CRS_UNKNOWN', `the CRS of ${clouds[0]!.name} is unknown, so trees cannot be placed on the globe; give it with --crs EPSG:NNNN, or ask for local outputs only (--local-only)`);
+  }
   const unitM = crs.unitM;
   const vu = crs.verticalUnitM;
   const warnings: string[] = [];
@@ -258,7 +263,18 @@ export async function tallyClouds(clouds: PointCloud[], options: TallyOptions, r
   const metrics = new TreeMetricsAccumulator(labels, dtm, tops, { profileLayerM: options.profileLayerM, verticalUnitM: vu, unitM, hasReturns, hasRgb: readout.hasRgb, chm });
   const profile = new ProfileAccumulator(dtm, { layerM: options.profileLayerM, verticalUnitM: vu });
   let done = 0;
-  const feed = (c: PointChunk) => { metrics.add(c); profile.add(c); done += c.count; progress.report('metrics', done / Math.max(1, read)); };
+  let keepMask = new Uint8Array(0);
+  const feed = (c: PointChunk) => {
+    metrics.add(c);
+    if (run.keep) {
+      // Tiles: the survey-wide profile counts each point once, in the tile that owns it.
+      if (keepMask.length < c.count) keepMask = new Uint8Array(c.count);
+      const n = markInside(c, run.keep, keepMask);
+      if (n > 0) profile.add(n === c.count ? c : subsetChunk(c, keepMask, n));
+    } else profile.add(c);
+    done += c.count;
+    progress.report('metrics', done / Math.max(1, read));
+  };
   if (cache) {
     for (const c of cache) feed(c);
   } else {
