@@ -1,2 +1,2 @@
-export { progressiveMorphologicalGround, pmfGroundMask, type PmfOptions } from './pmf.js';
+export { progressiveMorphologicalGround, pmfGroundMask, groundFromFilter, type PmfOptions } from './pmf.js';
 export { squareFilter, opening } from './morphology.js';

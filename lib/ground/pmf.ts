@@ -86,3 +86,9 @@ export function progressiveMorphologicalGround(s: Surfaces, opts: PmfOptions = {
   }
   return out;
 }
+
+/** The ground filter as the pipeline calls it: `unitM` is the horizontal (CRS) unit in metres. */
+export function groundFromFilter(s: Surfaces, opts: Omit<PmfOptions, 'horizontalUnitM'> & { unitM?: number } = {}): GroundPoints {
+  const { unitM, ...rest } = opts;
+  return progressiveMorphologicalGround(s, { ...rest, horizontalUnitM: unitM ?? 1 });
+}

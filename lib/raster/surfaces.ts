@@ -60,6 +60,12 @@ export interface Surfaces {
   counts: Grid<Uint32Array>;
   /** Class-6 (building) points per cell. */
   buildingCounts: Grid<Uint32Array>;
+  /** The same grid as `counts` (alias). */
+  count: Grid<Uint32Array>;
+  /** The same grid as `buildingCounts` (alias). */
+  buildingCount: Grid<Uint32Array>;
+  /** True when at least one used point carried class 6. */
+  hasBuildingClass: boolean;
   /** True when at least one used point carried class 2. */
   hasGroundClass: boolean;
   /** Points that entered the surfaces. */
@@ -110,6 +116,7 @@ export class SurfaceAccumulator {
   private overlap = 0;
   private outside = 0;
   private groundSeen = false;
+  private buildingSeen = false;
   private finished = false;
 
   /** Throws TOO_LARGE (with a cell size that fits) before allocating a grid beyond the budget. */
@@ -172,7 +179,7 @@ export class SurfaceAccumulator {
         lowDx[k] = px - (originX + col * cellSize);
         lowDy[k] = (originY - row * cellSize) - py;
       }
-      if (c === CLASS_BUILDING) building[k]++;
+      if (c === CLASS_BUILDING) { building[k]++; this.buildingSeen = true; }
       else if (c === CLASS_GROUND) {
         this.groundSeen = true;
         if (useG && pz < gZ[k]) {
@@ -229,6 +236,8 @@ export class SurfaceAccumulator {
       }
     }
 
+    const counts: Grid<Uint32Array> = { ...geom, data: this.count };
+    const buildingCounts: Grid<Uint32Array> = { ...geom, data: this.building };
     return {
       geometry: geom,
       dsm: { ...geom, data: dsmData },
@@ -237,8 +246,11 @@ export class SurfaceAccumulator {
       lowestY,
       ground: { ...geom, data: ground },
       groundPoints: gp,
-      counts: { ...geom, data: this.count },
-      buildingCounts: { ...geom, data: this.building },
+      counts,
+      buildingCounts,
+      count: counts,
+      buildingCount: buildingCounts,
+      hasBuildingClass: this.buildingSeen,
       hasGroundClass: this.groundSeen,
       pointsUsed: this.used,
       pointsNoise: this.noise,

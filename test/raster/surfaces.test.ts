@@ -45,6 +45,8 @@ describe('SurfaceAccumulator', () => {
     expect(s.lowestX[k]).toBeCloseTo(1003.9, 5);
     expect(s.lowestY[k]).toBeCloseTo(1995.9, 5);
     expect(s.hasGroundClass).toBe(true);
+    expect(s.hasBuildingClass).toBe(true);
+    expect(s.count).toBe(s.counts);
     expect(s.groundPoints.count).toBe(100);
     expect(s.pointsUsed).toBe(103);
   });
