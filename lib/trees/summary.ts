@@ -1,0 +1,100 @@
+import { CrowntallyError } from '../errors.js';
+import { FLAG_OVERLAP, FLAG_WITHHELD, type PointChunk } from '../io/types.js';
+import type { Grid } from '../raster/grid.js';
+import type { SurveySummary, TreeTable } from './table.js';
+
+/** Tallest height (m) the whole-area profile keeps; higher returns (birds, cranes, outliers) land in the top layer. */
+const MAX_PROFILE_M = 150;
+
+/**
+ * Whole-area vertical profile: returns per layer of layerM metres above the
+ * DTM (noise classes 7 and 18 and withheld points left out, overlap points
+ * too by default). Fed chunk by chunk during the metrics pass.
+ */
+export class ProfileAccumulator {
+  private readonly counts: Float64Array;
+  private readonly layerM: number;
+  private readonly vu: number;
+  private readonly dropOverlap: boolean;
+  private top = -1;
+
+  constructor(private readonly dtm: Grid, opts: { layerM: number; verticalUnitM: number; dropOverlap?: boolean }) {
+    if (!(opts.layerM > 0)) throw new CrowntallyError('BAD_OPTIONS', `profile layer must be a positive number of metres (got ${opts.layerM})`);
+    if (!(opts.verticalUnitM > 0)) throw new CrowntallyError('BAD_OPTIONS', `verticalUnitM must be positive (got ${opts.verticalUnitM})`);
+    this.layerM = opts.layerM;
+    this.vu = opts.verticalUnitM;
+    this.dropOverlap = opts.dropOverlap ?? true;
+    this.counts = new Float64Array(Math.max(1, Math.ceil(MAX_PROFILE_M / opts.layerM)));
+  }
+
+  add(chunk: PointChunk): void {
+    const D = this.dtm, dd = D.data, n = this.counts.length;
+    for (let p = 0; p < chunk.count; p++) {
+      const cls = chunk.classification[p]!;
+      if (cls === 7 || cls === 18) continue;
+      const fl = chunk.flags[p]!;
+      if (fl & FLAG_WITHHELD || (this.dropOverlap && fl & FLAG_OVERLAP)) continue;
+      const c = Math.floor((chunk.x[p]! - D.originX) / D.cellSize), r = Math.floor((D.originY - chunk.y[p]!) / D.cellSize);
+      if (!(c >= 0 && c < D.width && r >= 0 && r < D.height)) continue;
+      const g = dd[r * D.width + c]!;
+      const h = chunk.z[p]! * this.vu - g;
+      if (!Number.isFinite(h)) continue;
+      const l = Math.min(n - 1, Math.max(0, Math.floor(h / this.layerM)));
+      this.counts[l]!++;
+      if (l > this.top) this.top = l;
+    }
+  }
+
+  /** Counts from the ground up to the highest layer holding a return. */
+  finish(): { layerM: number; counts: number[] } {
+    return { layerM: this.layerM, counts: Array.from(this.counts.subarray(0, this.top + 1)) };
+  }
+}
+
+/**
+ * Survey-wide figures. Area = occupied (non-NaN) CHM cells x cell area in m2;
+ * canopy cover = share of those cells with CHM >= minHeightM; tree heights
+ * (height_m, or chm_height_m where a tree had no returns) in 1 m bins.
+ */
+export function surveySummary(
+  table: TreeTable,
+  chm: Grid,
+  opts: { minHeightM: number; unitM: number; binM?: number },
+  profile: { layerM: number; counts: number[] } = { layerM: table.profileLayerM, counts: [] },
+): SurveySummary {
+  const binM = opts.binM ?? 1;
+  if (!(binM > 0)) throw new CrowntallyError('BAD_OPTIONS', `height bin must be positive (got ${binM})`);
+  let occupied = 0, canopy = 0;
+  const d = chm.data;
+  for (let i = 0; i < d.length; i++) {
+    const v = d[i]!;
+    if (Number.isNaN(v)) continue;
+    occupied++;
+    if (v >= opts.minHeightM) canopy++;
+  }
+  const cellM = chm.cellSize * opts.unitM;
+  const areaM2 = occupied * cellM * cellM;
+  const counts: number[] = [];
+  let sum = 0, max = -Infinity, measured = 0;
+  for (let k = 0; k < table.count; k++) {
+    let h = table.columns.height_m[k]!;
+    if (!Number.isFinite(h)) h = table.columns.chm_height_m[k]!;
+    if (!Number.isFinite(h)) continue;
+    measured++;
+    sum += h;
+    if (h > max) max = h;
+    const b = Math.max(0, Math.floor(h / binM));
+    while (counts.length <= b) counts.push(0);
+    counts[b]!++;
+  }
+  return {
+    treeCount: table.count,
+    areaM2,
+    treesPerHa: areaM2 > 0 ? table.count / (areaM2 / 10_000) : NaN,
+    canopyCover: occupied > 0 ? canopy / occupied : NaN,
+    heightHistogram: { binM, counts },
+    profile: { layerM: profile.layerM, counts: profile.counts.slice() },
+    meanHeightM: measured > 0 ? sum / measured : NaN,
+    maxHeightM: measured > 0 ? max : NaN,
+  };
+}
