@@ -5,7 +5,7 @@
 # packages from the lock file.
 set -euo pipefail
 cd "$(dirname "$0")/.."
-pkgs="chromium python3-skimage python3-scipy python3-pyproj python3-shapely"
+pkgs="chromium python3-skimage python3-scipy python3-pyproj python3-shapely python3-tifffile"
 missing=""
 for p in $pkgs; do dpkg -s "$p" >/dev/null 2>&1 || missing="$missing $p"; done
 if [ -n "$missing" ]; then
