@@ -145,9 +145,17 @@ export class ReadoutAccumulator {
     const cellAreaM2 = this.cellM * this.cellM;
     const occM2 = this.occupiedCount * cellAreaM2;
     const boxDensity = boxM2 > 0 ? this.firstReturns / boxM2 : 0;
-    const density = occM2 > 0 ? this.firstReturns / occM2 : 0;
-    const densityArea = `occupied ${this.cellM} m cells (${this.occupiedCount} cells holding a first return); ` +
-      `over the bounding box (${boxM2.toFixed(0)} m2) it is ${boxDensity.toFixed(2)} per m2`;
+    // Every occupied cell holds at least one point, so for a sparse cloud the occupied-cell figure is
+    // bounded below by 1 / cell area whatever the truth: below 2 first returns per cell use the box.
+    const perCell = this.occupiedCount > 0 ? this.firstReturns / this.occupiedCount : 0;
+    const useCells = perCell >= 2;
+    const density = useCells ? (occM2 > 0 ? this.firstReturns / occM2 : 0) : boxDensity;
+    const densityAreaM2 = useCells ? occM2 : boxM2;
+    const densityArea = useCells
+      ? `occupied ${this.cellM} m cells (${this.occupiedCount} cells holding a first return); ` +
+        `over the bounding box (${boxM2.toFixed(0)} m2) it is ${boxDensity.toFixed(2)} per m2`
+      : `bounding box (${boxM2.toFixed(0)} m2): too sparse for ${this.cellM} m cells ` +
+        `(${perCell.toFixed(2)} first returns per occupied cell)`;
     const ql = qualityLevelByDensity(density);
 
     const hasRgb = this.colourFields && this.anyColour;
@@ -182,7 +190,7 @@ export class ReadoutAccumulator {
       classes, classNames, returns,
       firstReturns: this.firstReturns,
       firstReturnDensityPerM2: density,
-      densityAreaM2: occM2,
+      densityAreaM2,
       densityArea,
       qualityLevel: ql.level,
       qualityNote: ql.note,

@@ -156,6 +156,16 @@ describe('read-out of the fixtures', () => {
     expect({ ...b, name: a.name, kind: a.kind }).toEqual(a);
   });
 
+  it('a sparse cloud (point10.las) takes the box density, since occupied cells would floor it at 0.25', async () => {
+    // common practice: density = count / area; 925 first returns over the box of the file's header bounds.
+    const r = await surveyReadout(await open('point10.las'));
+    const b = r.bounds;
+    expect(r.firstReturns).toBe(925);
+    expect(r.firstReturnDensityPerM2).toBeCloseTo(925 / ((b.maxX - b.minX) * (b.maxY - b.minY)), 9);
+    expect(r.densityArea).toMatch(/^bounding box/);
+    expect(r.qualityLevel).toBe('below QL3');
+  });
+
   it('an empty file gives an empty read-out without failing', async () => {
     const r = await surveyReadout(await open('no-points-1.3.las'));
     expect(r.points).toBe(0);
