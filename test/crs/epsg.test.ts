@@ -1,3 +1,4 @@
+import { spawnSync } from 'node:child_process';
 import { readFileSync } from 'node:fs';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -13,7 +14,23 @@ interface RefEntry { code: number; name: string; geographic: boolean; points: [n
 // Reference numbers written by test/crs/make-epsg-reference.py from pyproj / PROJ and its EPSG database.
 const reference: RefEntry[] = JSON.parse(readFileSync(path.join(here, 'epsg-reference.json'), 'utf8'));
 
+const hasPyproj = spawnSync('/usr/bin/python3', ['-c', 'import pyproj'], { stdio: 'ignore' }).status === 0;
+
 describe('carried EPSG definitions', () => {
+  it.skipIf(!hasPyproj)('the stored reference is what pyproj gives today', () => {
+    // Source: pyproj/PROJ (Debian python3-pyproj), regenerated here so the stored numbers cannot drift.
+    const run = spawnSync('/usr/bin/python3', [path.join(here, 'make-epsg-reference.py')], {
+      input: JSON.stringify(carriedEpsgCodes()), encoding: 'utf8', maxBuffer: 1 << 24,
+    });
+    expect(run.status).toBe(0);
+    const fresh: RefEntry[] = JSON.parse(run.stdout);
+    expect(fresh.length).toBe(reference.length);
+    for (let i = 0; i < fresh.length; i++) {
+      expect(fresh[i]!.code).toBe(reference[i]!.code);
+      fresh[i]!.points.forEach((p, j) => p.forEach((v, k) => expect(Math.abs(v - reference[i]!.points[j]![k]!)).toBeLessThan(1e-6)));
+    }
+  });
+
   it('the reference covers every carried code', () => {
     expect(reference.map((e) => e.code)).toEqual(carriedEpsgCodes());
     expect(carriedEpsgCodes().length).toBeGreaterThan(200);

@@ -1,3 +1,4 @@
+import { spawnSync } from 'node:child_process';
 import { readFileSync } from 'node:fs';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -71,6 +72,16 @@ describe('autzen_trim.las CRS read-out', () => {
     expect(crs.geoKeys!.directory[3]).toBe(21);
     expect(crs.geoKeys!.doubles.length).toBe(9);
   });
+
+  it.skipIf(spawnSync('/usr/bin/python3', ['-c', 'import pyproj'], { stdio: 'ignore' }).status !== 0)(
+    'the stored PROJ reference is what pyproj gives today', () => {
+      // Source: pyproj/PROJ reading the file's WKT (make-crs-reference.py), regenerated so the stored numbers cannot drift.
+      const run = spawnSync('/usr/bin/python3', [path.join(here, 'make-crs-reference.py')], { encoding: 'utf8' });
+      expect(run.status).toBe(0);
+      const fresh = JSON.parse(run.stdout) as { points: number[][] };
+      const stored = JSON.parse(readFileSync(path.join(here, 'autzen-crs-reference.json'), 'utf8')) as { points: number[][] };
+      fresh.points.forEach((p, i) => p.forEach((v, k) => expect(Math.abs(v - stored.points[i]![k]!)).toBeLessThan(1e-9)));
+    });
 
   it('projects like PROJ reading the file WKT, within 1 cm', () => {
     // Source: pyproj/PROJ from the file's own WKT record (autzen-crs-reference.json, make-crs-reference.py).
