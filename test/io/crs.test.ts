@@ -101,6 +101,24 @@ describe('autzen_trim.las CRS read-out', () => {
   });
 });
 
+describe('WKT only (LAS 1.4 with the WKT global-encoding bit)', () => {
+  it('reads unit and projection from the WKT record alone, agreeing with PROJ within 1 cm', () => {
+    // Source: ASPRS LAS 1.4 R15 (global encoding bit 4 = WKT); reference numbers from pyproj on the same WKT.
+    const { vlrs } = vlrsOf('autzen_trim.las');
+    const wktOnly = vlrs.filter((v) => v.recordId === WKT_RECORD && v.userId === 'LASF_Projection');
+    const c = crsFromVlrs(wktOnly, { versionMajor: 1, versionMinor: 4, globalEncoding: 16 } as LasHeader);
+    expect(c.unitM).toBe(0.3048);
+    expect(c.notes.join(' ')).toMatch(/from the WKT/);
+    expect(c.geoKeys).toBeUndefined();
+    const ref = JSON.parse(readFileSync(path.join(here, 'autzen-crs-reference.json'), 'utf8')) as { points: number[][] };
+    const toGeog = makeTransform(c.proj4!, '+proj=longlat +ellps=GRS80 +towgs84=0,0,0,0,0,0,0 +no_defs');
+    for (const [x, y, lon, lat] of ref.points as [number, number, number, number][]) {
+      const [l, b] = toGeog(x, y);
+      expect(Math.hypot((l - lon) * 111_320 * Math.cos((lat * Math.PI) / 180), (b - lat) * 111_320)).toBeLessThan(0.01);
+    }
+  });
+});
+
 describe('other fixtures and synthetic keys', () => {
   it('point10.las: EPSG 26910 in metres', () => {
     // Source: the file's own GeoKeys and WKT ("NAD83 / UTM zone 10N", EPSG 26910, unit 9001).
