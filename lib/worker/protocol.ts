@@ -44,6 +44,8 @@ export interface RemeasureRequest {
   dtm: { width: number; height: number; cellSize: number; originX: number; originY: number; data: Float32Array };
   /** Tops per label (index = label - 1), CRS units. */
   tops: { x: Float64Array; y: Float64Array };
+  /** The built-in scenario the previous result came from (then `files` is empty). */
+  demo?: DemoKind;
 }
 export interface CancelRequest { type: 'cancel'; id: number }
 export type WorkerRequest = InspectRequest | TallyRequest | RemeasureRequest | CancelRequest | DecodeChunkRequest;
