@@ -19,9 +19,9 @@ export interface NonTreeOptions {
   maxPlaneRmsM?: number;
   /** Smallest crown (m2) the whole-crown plane test applies to. Default 12 m2. */
   minPlaneAreaM2?: number;
-  /** A cell is locally planar when it departs from its 3x3 best-fit plane by less than this (m). Default 0.1 m. */
+  /** A cell is locally planar when it departs from its 3x3 best-fit plane by less than this (m). Default 0.05 m, about the vertical noise of a lidar roof. */
   localPlaneToleranceM?: number;
-  /** A crown with at least this share of locally planar cells is a roof (flat or pitched). Default 0.5. */
+  /** A crown with at least this share of locally planar cells is a roof (flat or pitched). Default 0.6. */
   maxPlanarShare?: number;
 }
 
@@ -70,8 +70,8 @@ export function rejectNonTrees(labels: Grid<Int32Array>, tops: Treetops, opts: N
   const maxShare = opts.maxBuildingShare ?? 0.5;
   const maxRms = opts.maxPlaneRmsM ?? 0.15;
   const minArea = opts.minPlaneAreaM2 ?? 12;
-  const tol = opts.localPlaneToleranceM ?? 0.1;
-  const maxPlanar = opts.maxPlanarShare ?? 0.5;
+  const tol = opts.localPlaneToleranceM ?? 0.05;
+  const maxPlanar = opts.maxPlanarShare ?? 0.6;
   const cellM = labels.cellSize * unitM;
   const z = surf.data, lab = labels.data;
   const byClass = opts.hasBuildingClass === true && !!opts.pointCount && !!opts.buildingCount;

@@ -13,8 +13,8 @@ function scene(cellSize = 0.5) {
   for (let r = 0; r < H; r++) for (let c = 0; c < W; c++) {
     const x = c * 0.5, y = r * 0.5; // metres, the same scene whatever the CRS unit
     let h = 0, roof = false;
-    if (x >= 3 && x < 15 && y >= 5 && y < 15) { h = 6 + (rand() - 0.5) * 0.06; roof = true; }             // flat roof, 12 x 10 m
-    else if (x >= 20 && x < 34 && y >= 5 && y < 15) { h = 9 - 0.8 * Math.abs(y - 10) + (rand() - 0.5) * 0.06; roof = true; } // gable, ridge along x
+    if (x >= 3 && x < 15 && y >= 5 && y < 15) { h = 6 + (rand() - 0.5) * 0.1; roof = true; }             // flat roof, 12 x 10 m
+    else if (x >= 20 && x < 34 && y >= 5 && y < 15) { h = 9 - 0.8 * Math.abs(y - 10) + (rand() - 0.5) * 0.1; roof = true; } // gable, ridge along x
     else {
       const d2 = (x - 48) ** 2 + (y - 12) ** 2;
       h = Math.max(0, 14 * Math.exp(-d2 / 18)) + (d2 < 60 ? (rand() - 0.5) * 0.8 : 0);                     // rough crown
