@@ -116,7 +116,10 @@ export function* decodeLazChunkPieces(lp: LazPerf, bytes: Uint8Array, pointForma
   // Padding: the arithmetic decoder looks a few bytes ahead of what it uses.
   const inPtr = lp._malloc(bytes.length + 64);
   const piecePts = Math.min(pieceSize, pointCount);
-  const outPtr = lp._malloc(piecePts * recordLength);
+  // Records go through a small batch buffer that stays in cache between the
+  // WASM writes and the field decoding, rather than one buffer per piece.
+  const batch = Math.min(BATCH_POINTS, piecePts);
+  const outPtr = lp._malloc(batch * recordLength);
   let dec: InstanceType<LazPerf['ChunkDecoder']> | null = null;
   try {
     lp.HEAPU8.fill(0, inPtr + bytes.length, inPtr + bytes.length + 64);
@@ -125,9 +128,12 @@ export function* decodeLazChunkPieces(lp: LazPerf, bytes: Uint8Array, pointForma
     dec.open(pointFormat, recordLength, inPtr);
     for (let done = 0; done < pointCount;) {
       const n = Math.min(piecePts, pointCount - done);
-      for (let i = 0, p = outPtr; i < n; i++, p += recordLength) dec.getPoint(p);
       const c = allocChunk(n, pointFormat);
-      decodeRecords(lp.HEAPU8, outPtr, n, pointFormat, recordLength, header, c);
+      for (let at = 0; at < n; at += batch) {
+        const m = Math.min(batch, n - at);
+        for (let i = 0, p = outPtr; i < m; i++, p += recordLength) dec.getPoint(p);
+        decodeRecords(lp.HEAPU8, outPtr, m, pointFormat, recordLength, header, c, at);
+      }
       checkChunkBounds(c, header, label);
       done += n;
       yield c;
@@ -139,6 +145,9 @@ export function* decodeLazChunkPieces(lp: LazPerf, bytes: Uint8Array, pointForma
     try { dec?.delete(); lp._free(outPtr); lp._free(inPtr); } catch { /* the instance is dropped by the caller */ }
   }
 }
+
+/** Records decoded per batch (about 17 KB for 34-byte records). */
+const BATCH_POINTS = 512;
 
 /** Largest file decoded as a single stream (no chunk table): it has to sit in WASM memory whole. */
 const MAX_STREAM_BYTES = 1536 * 1024 * 1024;

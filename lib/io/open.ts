@@ -10,6 +10,8 @@ import { LazPerfHandle, lazChunks, lazPerfProvider, type LazPerfProvider } from 
 import { crsFromVlrs } from './crs.js';
 import { openXyz } from './xyz.js';
 
+export type { LazPerfProvider } from './laz.js';
+
 export interface OpenOptions {
   /** Force the reader instead of detecting it. */
   kind?: 'las' | 'laz' | 'xyz';
