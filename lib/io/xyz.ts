@@ -127,21 +127,37 @@ function detectLayout(line: string): Layout | null {
   return { fields, hasHeader: true };
 }
 
-/** Parses one record into `out` (length = fields); false when a used field is missing or not finite. */
+/** Field separators: space, tab, CR, comma, semicolon. */
+function isSep(ch: number): boolean {
+  return ch === 32 || ch === 44 || ch === 9 || ch === 59 || ch === 13 || ch === 11 || ch === 12;
+}
+
+/**
+ * Parses one record into `out` (length = fields); false when a used field is
+ * missing or not finite. Scans characters rather than splitting by a regular
+ * expression: this runs once per point.
+ */
 function parseLine(line: string, fields: Field[], out: Float64Array): boolean {
-  const toks = line.trim().split(SEP);
+  const len = line.length;
+  const nf = fields.length;
   let n = 0;
-  for (let k = 0; k < toks.length; k++) {
-    const t = toks[k]!;
-    if (t === '') continue;
-    if (n < fields.length && fields[n] !== 'ignore') {
-      const v = Number(t);
+  let i = 0;
+  while (i < len) {
+    while (i < len && isSep(line.charCodeAt(i))) i++;
+    if (i >= len) break;
+    const start = i;
+    while (i < len && !isSep(line.charCodeAt(i))) i++;
+    if (n < nf && fields[n] !== 'ignore') {
+      const v = Number(line.slice(start, i));
       if (!Number.isFinite(v)) return false;
       out[n] = v;
     }
     n++;
   }
-  return n >= fields.length || (n >= 3 && fields.slice(n).every((f) => f === 'ignore'));
+  if (n >= nf) return true;
+  if (n < 3) return false;
+  for (let k = n; k < nf; k++) if (fields[k] !== 'ignore') return false;
+  return true;
 }
 
 export async function openXyz(source: ByteSource, opts: { crs?: CrsInfo } = {}): Promise<XyzPointCloud> {
