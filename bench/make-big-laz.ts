@@ -24,14 +24,11 @@ export async function makeBigLaz(seed: Uint8Array, repeat: number, lazPerf?: Laz
     for (let i = 0; i < c.count; i++) { const k = c.returnNumber[i]!; if (k >= 1 && k <= 15) r[k - 1]!++; }
     byReturn.push(r);
   }
-  const full = table.filter((e) => e.pointCount === info.chunkSize);
   const fullIdx = table.map((e, i) => (e.pointCount === info.chunkSize ? i : -1)).filter((i) => i >= 0);
-  const tail = table.filter((e) => e.pointCount !== info.chunkSize);
   const tailIdx = table.map((e, i) => (e.pointCount !== info.chunkSize ? i : -1)).filter((i) => i >= 0);
   const order: number[] = [];
   for (let r = 0; r < repeat; r++) order.push(...fullIdx);
   order.push(...tailIdx);
-  void full; void tail;
   const lengths = order.map((i) => table[i]!.byteLength);
   const body = lengths.reduce((a, b) => a + b, 0);
   const enc = encodeLazChunkTable(lengths, null);
