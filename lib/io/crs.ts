@@ -201,9 +201,11 @@ function projFromKeys(keys: Map<number, KeyValue>, unit: { m: number; proj4: str
     notes.push(`angular unit code ${ang} is not supported (degree or radian only)`);
     return null;
   }
-  const deg = (...ids: number[]): number => (firstNum(keys, ...ids) ?? 0) * toDeg;
+  // 15 significant digits: drops float noise of the unit conversion (399999.99999999994 -> 400000).
+  const tidy = (v: number): number => Number(v.toPrecision(15));
+  const deg = (...ids: number[]): number => tidy((firstNum(keys, ...ids) ?? 0) * toDeg);
   // False eastings/northings are in the projection's linear unit; proj4 wants metres.
-  const lin = (...ids: number[]): number => (firstNum(keys, ...ids) ?? 0) * unit.m;
+  const lin = (...ids: number[]): number => tidy((firstNum(keys, ...ids) ?? 0) * unit.m);
   const k = firstNum(keys, GeoKey.ProjScaleAtNatOrigin, GeoKey.ProjScaleAtCenter) ?? 1;
   const K = GeoKey;
   let p: string;
