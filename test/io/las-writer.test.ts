@@ -161,3 +161,36 @@ describe('writeLas refuses bad input', () => {
     expect(Number(new DataView(b.buffer).getBigUint64(247, true))).toBe(0);
   });
 });
+
+describe('writeLas read back with the project reader', () => {
+  it('round-trips every field of formats 0-3, 6 and 7', async () => {
+    const { openPointCloud } = await import('../../lib/io/open.js');
+    const { bufferSource } = await import('../../lib/io/sources.js');
+    const c = chunk(7);
+    for (const f of [0, 1, 2, 3, 6, 7] as const) {
+      const pc = await openPointCloud(bufferSource(writeLas(c, { ...opts, pointFormat: f }), `f${f}.las`));
+      expect(pc.header.pointFormat).toBe(f);
+      expect(pc.header.pointCount).toBe(7);
+      let i = 0;
+      for await (const k of pc.chunks()) {
+        for (let j = 0; j < k.count; j++, i++) {
+          expect(k.x[j]).toBeCloseTo(c.x[i]!, 6);
+          expect(k.y[j]).toBeCloseTo(c.y[i]!, 6);
+          expect(k.z[j]).toBeCloseTo(c.z[i]!, 6);
+          expect(k.intensity[j]).toBe(c.intensity[i]);
+          expect(k.returnNumber[j]).toBe(c.returnNumber[i]);
+          expect(k.numberOfReturns[j]).toBe(c.numberOfReturns[i]);
+          expect(k.classification[j]).toBe(c.classification[i]);
+          // Overlap exists only in formats 6-10 (ASPRS LAS 1.4 R15); withheld in all.
+          expect(k.flags[j]).toBe(f >= 6 ? c.flags[i] : c.flags[i]! & FLAG_WITHHELD);
+          // Formats 0-5 store a whole-degree rank; 6-10 store 0.006-degree steps (R15).
+          expect(k.scanAngleDeg[j]).toBeCloseTo(f >= 6 ? c.scanAngleDeg[i]! : Math.round(c.scanAngleDeg[i]!), f >= 6 ? 2 : 6);
+          if (f === 1 || f === 3 || f >= 6) expect(k.gpsTime![j]).toBe(c.gpsTime![i]);
+          if (f === 2 || f === 3 || f === 7) expect([k.red![j], k.green![j], k.blue![j]]).toEqual([c.red![i], c.green![i], c.blue![i]]);
+        }
+      }
+      expect(i).toBe(7);
+      await pc.close();
+    }
+  });
+});
