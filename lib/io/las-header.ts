@@ -141,22 +141,25 @@ export async function readLasHeader(source: ByteSource): Promise<ParsedLas> {
   }
   const vlrCount = dv.getUint32(100, true);
   const vlrs: Vlr[] = [];
-  // VLRs lie between the header and the point data; read that block once (bounded by the file size check above).
-  const block = await readExact(source, header.headerSize, header.offsetToPointData - header.headerSize, 'VLRs');
-  const bdv = new DataView(block.buffer, block.byteOffset, block.byteLength);
-  let p = 0;
+  // VLRs lie between the header and the point data. Read them one by one so a
+  // damaged point data offset never makes us read (or allocate) the gap whole.
+  const blockEnd = header.offsetToPointData;
+  if (vlrCount * VLR_HEADER > blockEnd - header.headerSize) {
+    throw new CrowntallyError('BAD_HEADER', `${src}: ${vlrCount} VLRs cannot fit in the ${blockEnd - header.headerSize} bytes before the point data; the header is damaged`);
+  }
+  let p = header.headerSize;
   for (let i = 0; i < vlrCount; i++) {
-    if (p + VLR_HEADER > block.length) {
+    if (p + VLR_HEADER > blockEnd) {
       throw new CrowntallyError('BAD_HEADER', `${src}: VLR ${i + 1} of ${vlrCount} does not fit before the point data; the header is damaged`);
     }
-    const len = bdv.getUint16(p + 20, true);
-    if (p + VLR_HEADER + len > block.length) {
+    const vh = await readExact(source, p, VLR_HEADER, 'VLR header');
+    const len = vh[20]! | (vh[21]! << 8);
+    if (p + VLR_HEADER + len > blockEnd) {
       throw new CrowntallyError('BAD_HEADER', `${src}: VLR ${i + 1} (${len} bytes) runs into the point data; the header is damaged`);
     }
-    vlrs.push({
-      userId: ascii(block, p + 2, 16), recordId: bdv.getUint16(p + 18, true), description: ascii(block, p + 22, 32),
-      dataOffset: header.headerSize + p + VLR_HEADER, data: block.slice(p + VLR_HEADER, p + VLR_HEADER + len), extended: false,
-    });
+    const data = (await readExact(source, p + VLR_HEADER, len, 'VLR')).slice();
+    vlrs.push({ userId: ascii(vh, 2, 16), recordId: vh[18]! | (vh[19]! << 8), description: ascii(vh, 22, 32),
+      dataOffset: p + VLR_HEADER, data, extended: false });
     p += VLR_HEADER + len;
   }
   if (header.versionMinor >= 4) {

@@ -79,14 +79,14 @@ function thrownText(e: unknown): string {
 }
 
 /** Throws CORRUPT_LAZ when a decoded coordinate lies outside the header bounds by more than a few scale steps. */
-export function checkChunkBounds(c: PointChunk, header: LasHeader, label: string): void {
+export function checkChunkBounds(c: PointChunk, header: LasHeader, label: string, from = 0, to = c.count): void {
   const b = header.bounds;
   const tx = 4 * Math.abs(header.scale[0]) + 1e-9 * Math.max(Math.abs(b.minX), Math.abs(b.maxX));
   const ty = 4 * Math.abs(header.scale[1]) + 1e-9 * Math.max(Math.abs(b.minY), Math.abs(b.maxY));
   const tz = 4 * Math.abs(header.scale[2]) + 1e-9 * Math.max(Math.abs(b.minZ), Math.abs(b.maxZ));
   const { x, y, z } = c;
   const lx = b.minX - tx, hx = b.maxX + tx, ly = b.minY - ty, hy = b.maxY + ty, lz = b.minZ - tz, hz = b.maxZ + tz;
-  for (let i = 0; i < c.count; i++) {
+  for (let i = from; i < to; i++) {
     const xi = x[i]!, yi = y[i]!, zi = z[i]!;
     // Negated tests so NaN fails too.
     if (!(xi >= lx && xi <= hx && yi >= ly && yi <= hy && zi >= lz && zi <= hz)) {
@@ -133,8 +133,8 @@ export function* decodeLazChunkPieces(lp: LazPerf, bytes: Uint8Array, pointForma
         const m = Math.min(batch, n - at);
         for (let i = 0, p = outPtr; i < m; i++, p += recordLength) dec.getPoint(p);
         decodeRecords(lp.HEAPU8, outPtr, m, pointFormat, recordLength, header, c, at);
+        checkChunkBounds(c, header, label, at, at + m);
       }
-      checkChunkBounds(c, header, label);
       done += n;
       yield c;
     }
