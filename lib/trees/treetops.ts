@@ -32,7 +32,8 @@ const MAX_RADIUS_CELLS = 512;
  * height, Popescu & Wynne 2004). A cell is a top when no cell inside the
  * disc of that diameter centred on it is higher (ties allowed at this
  * stage). Most cells are ruled out first by the 3x3 neighbourhood, so the
- * disc test runs only on 3x3 maxima.
+ * disc test runs only on 3x3 maxima (when the disc reaches the diagonal
+ * neighbours, radius >= sqrt(2) cells; smaller discs are tested directly).
  *
  * Plateaus: the surviving cells are grouped into 8-connected components of
  * equal height; each component yields exactly one top, the member cell
@@ -59,8 +60,9 @@ export function findTreetops(chm: Grid, opts: TreetopOptions): Treetops {
       const i = r * W + c;
       const h = data[i]!;
       if (!(h >= minH)) continue; // NaN fails too
-      if (!isMax3x3(data, W, H, c, r, h)) continue;
       const radius = Math.min(MAX_RADIUS_CELLS, (win(h) / 2) / cellM);
+      // The 3x3 prune is only valid when the disc covers the diagonal neighbours.
+      if (radius >= Math.SQRT2 && !isMax3x3(data, W, H, c, r, h)) continue;
       if (isDiscMax(data, W, H, c, r, h, radius)) cand[i] = 1;
     }
   }

@@ -22,6 +22,18 @@ describe.skipIf(!ok)('treetops and crowns against SciPy and scikit-image', () =>
     });
   }
 
+  // Windows whose disc is smaller than the 3x3 neighbourhood (radius 1 and 1.3 cells).
+  for (const windowM of [1.0, 1.3]) {
+    it(`small window ${windowM} m on 0.5 m cells`, () => {
+      const { grid } = syntheticCanopy(5, 60, 50, 12, 0.5, 0.3);
+      const s = compareWithReference(grid, { minHeightM: 2, windowM });
+      expect(s.topsNotAtMax).toBe(0); // scipy.ndimage.maximum_filter
+      expect(s.strictMaxima).toBeGreaterThan(10);
+      expect(s.strictMissed).toBe(0); // scipy.ndimage.maximum_filter
+      expect(s.agreement).toBeGreaterThanOrEqual(0.99); // skimage.segmentation.watershed
+    });
+  }
+
   it('a feet-based grid gives the same comparison', () => {
     const { grid } = syntheticCanopy(7, 80, 60, 20, 0.5 / 0.3048, 0.05);
     const s = compareWithReference(grid, { minHeightM: 2, windowM: 3.5, unitM: 0.3048 });
