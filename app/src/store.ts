@@ -1,5 +1,5 @@
 import { openDB, type DBSchema, type IDBPDatabase } from 'idb';
-import type { SurveyReadout } from '../../lib/io/types.js';
+import type { CrsInfo, SurveyReadout } from '../../lib/io/types.js';
 import type { TallyOptions } from '../../lib/options.js';
 import type { Grid } from '../../lib/raster/grid.js';
 import type { CrownOutlines, SurveySummary, TreeTable } from '../../lib/trees/table.js';
@@ -32,9 +32,7 @@ export interface ProjectRecord {
     treeCount: number;
     summary: SurveySummary;
     warnings: string[];
-    crsEpsg: number | null;
-    crsProj4: string | null;
-    unitM: number;
+    crs: CrsInfo;
     usedOptions: TallyOptions & { cellSizeM: number };
   };
 }

@@ -39,7 +39,7 @@ function run(count: number, height: number): StoredRun {
 }
 
 const summary = { treeCount: 1, areaM2: 4, treesPerHa: 2500, canopyCover: 0.25, heightHistogram: { binM: 1, counts: [] }, profile: { layerM: 1, counts: [] }, meanHeightM: 7, maxHeightM: 7 };
-const meta = (n: number) => ({ at: 1, treeCount: n, summary, warnings: [], crsEpsg: 32633, crsProj4: null, unitM: 1, usedOptions: { cellSizeM: 0.5 } as never });
+const meta = (n: number) => ({ at: 1, treeCount: n, summary, warnings: [], crs: { epsg: 32633, wkt: null, proj4: null, unitM: 1, verticalUnitM: 1, unitName: 'metre', notes: [] }, usedOptions: { cellSizeM: 0.5 } as never });
 
 describe('field store', () => {
   it('creates, lists and deletes projects with their files, runs and edits', async () => {

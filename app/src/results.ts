@@ -1,0 +1,277 @@
+import { CAUTION } from '../../lib/export/caution.js';
+import { MAX_RETURN_NUMBER, TREE_COLUMNS } from '../../lib/trees/table.js';
+import { columnDecimals } from '../../lib/export/csv.js';
+import { columnChart, profileChart, scatterChart } from './charts.js';
+import { button, fmt, h, put } from './dom.js';
+import { addCrown, editByRow, mergeLabels, reattachEdits, topsOf } from './edits.js';
+import { exportCSV, exportGeoJSON, exportGeoTIFF, type ExportInput } from './exports.js';
+import type { Jobs } from './jobs.js';
+import { MapView } from './map.js';
+import { newEditKey, type EditRecord, type FieldStore, type ProjectRecord, type StoredRun } from './store.js';
+import { COLUMN_LABEL, TreeListView } from './table.js';
+
+/**
+ * The results of a survey: map and tree list side by side on wide screens
+ * (stacked on a tablet held upright), the selected tree's detail and
+ * corrections, survey-wide charts and downloads. One selection is shared by
+ * map, list and detail.
+ */
+
+const CONDITIONS = ['', 'good', 'fair', 'poor', 'dead', 'not assessed'];
+
+export async function openResults(main: HTMLElement, store: FieldStore, jobs: Jobs, project: ProjectRecord, nav: { toSetup: () => void }): Promise<void> {
+  const loaded = await store.loadRun(project.id);
+  if (!loaded || !project.run) { nav.toSetup(); return; }
+  let run: StoredRun = loaded;
+  let meta = project.run;
+  let edits = await store.listEdits(project.id);
+  let byRow = editByRow(run.trees, edits);
+  let selected = -1;
+  let mode: 'select' | 'add' | 'merge' = 'select';
+  const status = h('div', { class: 'status', role: 'status' });
+
+  const marks = () => {
+    const m = new Map<number, 'edited' | 'deleted'>();
+    for (const [r, e] of byRow) m.set(r, e.deleted || e.mergedInto ? 'deleted' : 'edited');
+    return m;
+  };
+
+  const modeBar = h('div', { class: 'mode-bar', 'aria-live': 'polite' });
+  const map = new MapView((t) => { void onMapTap(t.row, t.x, t.y); });
+  const list = new TreeListView((row) => select(row));
+  const detail = h('aside', { class: 'detail card', 'aria-label': 'Selected tree' });
+  const overview = h('section', { class: 'card overview' });
+  const unplacedBox = h('div', {});
+
+  const caution = h('p', { class: 'caution', role: 'note' }, h('strong', {}, 'Caution. '), CAUTION);
+  const exportsBox = h('div', { class: 'row wrap' },
+    button('Download GeoJSON', () => doExport(exportGeoJSON), 'btn', { 'data-export': 'geojson' }),
+    button('Download CSV', () => doExport(exportCSV), 'btn', { 'data-export': 'csv' }),
+    button('Download canopy model (GeoTIFF)', () => doExport(exportGeoTIFF), 'btn', { 'data-export': 'geotiff' }),
+    button('Change settings and reprocess', () => nav.toSetup(), 'btn'));
+
+  put(main, 
+    caution,
+    meta.warnings.length ? h('ul', { class: 'warnings' }, ...meta.warnings.map((w) => h('li', {}, w))) : null,
+    unplacedBox,
+    h('div', { class: 'results' },
+      h('section', { class: 'card map-card' }, h('h2', {}, 'Map'), modeBar, map.el),
+      detail),
+    h('section', { class: 'card' }, h('h2', {}, 'Trees'), list.el),
+    overview,
+    h('section', { class: 'card' }, h('h2', {}, 'Downloads'), h('p', { class: 'hint' }, 'Deleted and merged-away trees are left out; corrected trees carry edited = true with their species, condition and note.'), exportsBox, status),
+  );
+
+  showUnplaced();
+  refreshAll();
+
+  function refreshAll(): void {
+    byRow = editByRow(run.trees, edits);
+    map.setData({ chm: run.chm, labels: run.labels, trees: run.trees, outlines: run.outlines, marks: marks() });
+    list.setData(run.trees, byRow);
+    renderModeBar();
+    renderDetail();
+    renderOverview();
+    map.select(selected);
+  }
+
+  function refreshMarks(): void {
+    byRow = editByRow(run.trees, edits);
+    map.setMarks(marks());
+    list.setEdits(byRow);
+  }
+
+  function select(row: number): void {
+    selected = row;
+    map.select(row);
+    map.reveal(row);
+    list.select(row);
+    renderDetail();
+    renderOverview();
+  }
+
+  function renderModeBar(): void {
+    if (mode === 'add') {
+      modeBar.replaceChildren(h('span', { class: 'mode-note' }, 'Tap the map where a tree was missed.'), button('Stop adding', () => { mode = 'select'; renderModeBar(); }, 'btn'));
+    } else if (mode === 'merge') {
+      modeBar.replaceChildren(h('span', { class: 'mode-note' }, `Tap the crown to merge into tree ${treeLabel(selected)}.`), button('Cancel merge', () => { mode = 'select'; renderModeBar(); }, 'btn'));
+    } else {
+      modeBar.replaceChildren(h('span', { class: 'mode-note' }, 'Tap a crown to select its tree.'), button('Add a missed tree', () => { mode = 'add'; renderModeBar(); }, 'btn', { 'data-action': 'add-mode' }));
+    }
+  }
+
+  function treeLabel(row: number): string {
+    return row >= 0 ? String(run.trees.columns.tree_id[row]) : '';
+  }
+
+  async function onMapTap(row: number, x: number, y: number): Promise<void> {
+    if (mode === 'add') { mode = 'select'; renderModeBar(); await addTree(x, y); return; }
+    if (mode === 'merge') {
+      mode = 'select'; renderModeBar();
+      if (row >= 0 && row !== selected && selected >= 0) await merge(selected, row);
+      return;
+    }
+    select(row);
+  }
+
+  function editFor(row: number): EditRecord {
+    const e = byRow.get(row);
+    if (e) return e;
+    return { projectId: project.id, key: newEditKey(), x: run.trees.columns.x[row]!, y: run.trees.columns.y[row]!, treeId: run.trees.columns.tree_id[row]!, updatedAt: Date.now() };
+  }
+
+  async function saveEdit(e: EditRecord): Promise<void> {
+    try {
+      await store.putEdit(e);
+      edits = edits.filter((x) => x.key !== e.key).concat(e);
+      refreshMarks();
+      status.replaceChildren(h('span', { class: 'saved' }, 'Saved on this device.'));
+    } catch (err) {
+      status.replaceChildren(h('p', { class: 'error', role: 'alert' }, (err as Error).message));
+    }
+  }
+
+  // ---- corrections that change crowns: the worker measures them again ----
+
+  function remeasureInput() {
+    return store.getFiles(project.id).then((files) => ({
+      files: files.map((f) => f.blob), names: files.map((f) => f.name),
+      ...(project.crs ? { crs: project.crs } : {}),
+      ...(project.source.kind === 'demo' ? { demo: project.source.demo } : {}),
+      options: meta.usedOptions,
+    }));
+  }
+
+  async function applyRemeasure(labels: StoredRun['labels'], tops: { x: Float64Array; y: Float64Array }, extraEdits: EditRecord[], busy: string): Promise<boolean> {
+    status.replaceChildren(h('span', { class: 'stage' }, busy));
+    try {
+      const table = await jobs.remeasure({ ...(await remeasureInput()), labels, chm: run.chm, dtm: run.dtm, tops });
+      const { outlines, ...trees } = table;
+      await store.saveRemeasured(project.id, trees, outlines, labels, trees.count);
+      // Row numbers may shift: put every correction back on its tree by position.
+      const all = edits.filter((e) => !extraEdits.some((x) => x.key === e.key)).concat(extraEdits);
+      const { placed, unplaced } = reattachEdits(trees, all, run.chm.cellSize * 0.75);
+      edits = [...placed, ...unplaced.map((e) => ({ ...e, treeId: -1 }))];
+      await store.putEdits(edits);
+      run = { ...run, trees, outlines, labels };
+      meta = { ...meta, treeCount: trees.count };
+      refreshAll();
+      status.replaceChildren(h('span', { class: 'saved' }, 'Measured again and saved.'));
+      return true;
+    } catch (err) {
+      status.replaceChildren(h('p', { class: 'error', role: 'alert' }, `${(err as Error).message}. Nothing was changed.`));
+      return false;
+    }
+  }
+
+  async function merge(a: number, b: number): Promise<void> {
+    const ea = { ...editFor(a) }, eb = { ...editFor(b), mergedInto: '' };
+    eb.mergedInto = ea.key;
+    eb.note = eb.note ?? '';
+    const labels = mergeLabels(run.labels, a + 1, b + 1);
+    if (await applyRemeasure(labels, topsOf(run.trees), [ea, eb], `Merging trees ${treeLabel(a)} and ${treeLabel(b)}\u2026`)) select(byRowKey(ea.key));
+  }
+
+  async function addTree(x: number, y: number): Promise<void> {
+    const unitM = meta.crs.unitM;
+    const { labels } = addCrown(run.labels, run.chm, topsOf(run.trees), x, y, 2 / unitM, meta.usedOptions.minHeightM);
+    const e: EditRecord = { projectId: project.id, key: newEditKey(), x, y, treeId: -1, added: true, updatedAt: Date.now() };
+    if (await applyRemeasure(labels, topsOf(run.trees, { x, y }), [e], 'Measuring the added tree\u2026')) select(byRowKey(e.key));
+  }
+
+  function byRowKey(key: string): number {
+    for (const [r, e] of byRow) if (e.key === key) return r;
+    return -1;
+  }
+
+  // ---- detail -------------------------------------------------------------
+
+  function renderDetail(): void {
+    const row = selected;
+    if (row < 0 || row >= run.trees.count) {
+      detail.replaceChildren(h('h2', {}, 'Tree'), h('p', { class: 'hint' }, 'Select a tree on the map or in the list to see its measurements and to correct it.'));
+      return;
+    }
+    const t = run.trees;
+    const e = byRow.get(row);
+    const state = e?.mergedInto ? 'merged into another tree' : e?.deleted ? 'deleted (not a tree)' : e?.added ? 'added by hand' : e ? 'edited' : 'as detected';
+    const facts = h('dl', { class: 'facts' }, ...TREE_COLUMNS.flatMap((c) => [h('dt', {}, COLUMN_LABEL[c]), h('dd', {}, fmt(t.columns[c][row]!, columnDecimals(c)))]));
+
+    const species = h('input', { class: 'field', id: 'f-species', type: 'text', maxlength: '120', autocomplete: 'off', value: e?.species ?? '' });
+    const condition = h('select', { class: 'field', id: 'f-condition' }, ...CONDITIONS.map((c) => h('option', { value: c }, c || '\u2014')));
+    condition.value = e?.condition ?? '';
+    const note = h('textarea', { class: 'field', id: 'f-note', rows: '3', maxlength: '2000' });
+    note.value = e?.note ?? '';
+    let timer = 0;
+    const save = () => {
+      clearTimeout(timer);
+      const next = { ...editFor(row), species: species.value, condition: condition.value, note: note.value };
+      void saveEdit(next);
+    };
+    const soon = () => { clearTimeout(timer); timer = window.setTimeout(save, 300); };
+    species.addEventListener('input', soon); note.addEventListener('input', soon);
+    species.addEventListener('change', save); note.addEventListener('change', save); condition.addEventListener('change', save);
+
+    const del = e?.deleted
+      ? button('Restore this tree', () => { const n = { ...editFor(row) }; delete n.deleted; void saveEdit(n).then(renderDetail); }, 'btn', { 'data-action': 'restore' })
+      : button('Delete: not a tree', () => { void saveEdit({ ...editFor(row), deleted: true }).then(renderDetail); }, 'btn danger', { 'data-action': 'delete' });
+    const mergeBtn = button('Merge with another crown', () => { mode = 'merge'; renderModeBar(); map.select(row); }, 'btn', { 'data-action': 'merge' });
+
+    const layers = Array.from(t.profiles.subarray(row * t.profileLayers, (row + 1) * t.profileLayers));
+    const R = t.returnHistogram.length / Math.max(1, t.count);
+    const hist = Array.from(t.returnHistogram.subarray(row * R, row * R + Math.min(R, MAX_RETURN_NUMBER)));
+    let last = hist.length; while (last > 1 && !hist[last - 1]) last--;
+    put(detail, 
+      h('h2', {}, `Tree ${treeLabel(row)}`),
+      h('p', { class: `tree-state${e ? ' is-edited' : ''}` }, `Status: ${state}`),
+      h('p', { class: 'caution small' }, 'Estimated from the point cloud; not a risk assessment. See the caution above.'),
+      h('div', { class: 'edit-form' },
+        h('label', { class: 'lbl', for: 'f-species' }, 'Species'), species,
+        h('label', { class: 'lbl', for: 'f-condition' }, 'Condition'), condition,
+        h('label', { class: 'lbl', for: 'f-note' }, 'Note'), note,
+        h('div', { class: 'row wrap' }, del, mergeBtn)),
+      e?.note ? h('p', { class: 'note-view' }, h('strong', {}, 'Saved note: '), h('span', { class: 'note-text' }, e.note)) : null,
+      facts,
+      profileChart('Returns by height in this crown', t.profileLayerM, layers, 'returns'),
+      t.hasReturns
+        ? columnChart('Returns by return number', hist.slice(0, last).map((_v, i) => String(i + 1)), hist.slice(0, last), 'return number', 'points')
+        : h('p', { class: 'hint' }, 'This survey has no return numbers (a photogrammetric cloud), so there is no return histogram.'),
+      h('p', { class: 'hint placeholder' }, 'Side view of this tree\u2019s own points: not available yet; the processing worker does not send points back to the app.'),
+    );
+  }
+
+  function renderOverview(): void {
+    const s = meta.summary;
+    const hh = s.heightHistogram;
+    overview.replaceChildren(
+      h('h2', {}, 'Survey overview'),
+      h('dl', { class: 'facts' },
+        h('dt', {}, 'Trees'), h('dd', {}, String(run.trees.count)),
+        h('dt', {}, 'Area'), h('dd', {}, `${fmt(s.areaM2 / 10000, 2)} ha`),
+        h('dt', {}, 'Trees per hectare'), h('dd', {}, fmt(s.treesPerHa, 1)),
+        h('dt', {}, 'Canopy cover'), h('dd', {}, `${fmt(s.canopyCover * 100, 1)} %`),
+        h('dt', {}, 'Mean / tallest height'), h('dd', {}, `${fmt(s.meanHeightM, 1)} m / ${fmt(s.maxHeightM, 1)} m`)),
+      h('div', { class: 'charts' },
+        columnChart('Tree heights', hh.counts.map((_c, i) => String(i * hh.binM)), hh.counts, 'height (m)', 'trees'),
+        scatterChart('Crown area against height', run.trees.columns.height_m, run.trees.columns.crown_area_m2, 'height (m)', 'crown area (m\u00b2)', selected)),
+    );
+  }
+
+  function showUnplaced(): void {
+    const raw = sessionStorage.getItem(`unplaced-${project.id}`);
+    const lost = edits.filter((e) => e.treeId === -1);
+    if (!lost.length) { unplacedBox.replaceChildren(); if (raw) sessionStorage.removeItem(`unplaced-${project.id}`); return; }
+    unplacedBox.replaceChildren(h('section', { class: 'card warn' }, h('h2', {}, 'Corrections that found no tree'),
+      h('p', { class: 'hint' }, 'After reprocessing, no tree was close enough to these corrections. They are kept; check the places and correct again if needed.'),
+      h('ul', {}, ...lost.map((e) => h('li', {}, `at ${fmt(e.x, 1)}, ${fmt(e.y, 1)}: ${[e.deleted ? 'deleted' : '', e.added ? 'added tree' : '', e.species ?? '', e.condition ?? '', e.note ?? ''].filter(Boolean).join(' \u00b7 ') || 'edited'}`)))));
+  }
+
+  function doExport(fn: (x: ExportInput) => void): void {
+    try {
+      fn({ name: project.name, trees: run.trees, outlines: run.outlines, chm: run.chm, crs: meta.crs, editByRow: byRow });
+      status.replaceChildren(h('span', { class: 'saved' }, 'Download started.'));
+    } catch (err) {
+      status.replaceChildren(h('p', { class: 'error', role: 'alert' }, (err as Error).message));
+    }
+  }
+}
