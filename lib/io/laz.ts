@@ -64,7 +64,9 @@ export class LazPerfHandle {
   constructor(private readonly provider: LazPerfProvider) {}
   get(): Promise<LazPerf> {
     if (!this.current) {
-      const p = this.provider();
+      const p = this.provider().catch((e: unknown) => {
+        throw new CrowntallyError('INTERNAL', `the LAZ decoder (laz-perf WASM) could not be loaded: ${thrownText(e)}; check that its .wasm file is available to the app`);
+      });
       this.current = p;
       p.catch(() => { if (this.current === p) this.current = null; });
     }
