@@ -10,7 +10,14 @@ import { canopyScene } from './canopy.js';
 import { truthTrees, type DemoTruth } from './truth.js';
 import { utmWkt } from './crs.js';
 
+/**
+ * The invented demo surveys: `generateSurvey('park' | 'orchard' | 'canopy')`
+ * returns LAS 1.4 bytes and the truth of the scene (every tree's top, height,
+ * crown radius, visible crown area, overtopped flag). Seeded: the same options
+ * give the same bytes. Runs in a browser worker as in Node (no Node built-ins).
+ */
 export type { DemoTruth, TruthTree } from './truth.js';
+export { evaluateDetections, type Detections, type Evaluation } from './evaluate.js';
 export type DemoSurveyKind = 'park' | 'orchard' | 'canopy';
 
 export interface SurveyOptions {
@@ -22,6 +29,8 @@ export interface SurveyOptions {
   scan?: Partial<ScanOptions>;
   /** 7 (default) carries the scene's colours; 6 has none. */
   pointFormat?: 6 | 7;
+  /** Park only: include the gabled tool shed (default true). */
+  shed?: boolean;
 }
 
 export const DEMO_EPSG = 32633;
@@ -33,7 +42,7 @@ export function buildScene(kind: DemoSurveyKind, opts: SurveyOptions = {}): Scen
   const w = opts.widthM ?? dw, h = opts.heightM ?? dh;
   if (!(w >= 20 && w <= 2000 && h >= 20 && h <= 2000)) bad(`demo width and height must be 20-2000 m (got ${w} x ${h})`);
   const rng = makeRng(opts.seed ?? 1).fork(1);
-  return kind === 'park' ? parkScene(rng, w, h) : kind === 'orchard' ? orchardScene(rng, w, h) : canopyScene(rng, w, h);
+  return kind === 'park' ? parkScene(rng, w, h, opts.shed ?? true) : kind === 'orchard' ? orchardScene(rng, w, h) : canopyScene(rng, w, h);
 }
 
 function bad(msg: string): never {
@@ -73,7 +82,7 @@ export function generateSurvey(kind: DemoSurveyKind, opts: SurveyOptions = {}): 
   const wkt = utmWkt(33);
   const las = writeLas(toPointChunk(cloud, scene), {
     pointFormat: opts.pointFormat ?? 7, scale: [0.001, 0.001, 0.001], offset: [Math.round(scene.originX), Math.round(scene.originY), 0],
-    wkt, systemId: 'SIMULATION', software: 'Crowntally demo', creationDay: 152, creationYear: 2024,
+    wkt, systemId: 'OTHER', software: 'Crowntally demo', creationDay: 152, creationYear: 2024,
     pointSourceId: cloud.pointSourceId.subarray(0, cloud.count),
   });
   const truth: DemoTruth = {

@@ -11,6 +11,12 @@ import { FLAG_OVERLAP } from '../../lib/io/types.js';
 const small = { seed: 11, widthM: 70, heightM: 60 };
 
 describe('generateSurvey determinism', () => {
+  it('can leave the shed out', () => {
+    const withShed = generateSurvey('park', { ...small, widthM: 180, heightM: 140, firstReturnsPerM2: 1 });
+    const without = generateSurvey('park', { ...small, widthM: 180, heightM: 140, firstReturnsPerM2: 1, shed: false });
+    expect(withShed.las.length).not.toBe(without.las.length);
+  });
+
   it('gives the same bytes for the same seed and different bytes for another', () => {
     const a = generateSurvey('park', small), b = generateSurvey('park', small), c = generateSurvey('park', { ...small, seed: 12 });
     expect(a.las.length).toBe(b.las.length);
@@ -132,6 +138,15 @@ describe('the park survey', async () => {
       if (t.overtopped) expect(t.visibleCrownAreaM2).toBeLessThan(Math.PI * t.crownRadiusM ** 2);
     }
     expect(truth.trees.filter((t) => t.overtopped).length).toBeGreaterThanOrEqual(1);
+    // A crown no other crown reaches is seen whole: its visible area is the disc, pi r^2
+    // (common practice: circle area), up to the 0.2 m raster's edge error.
+    let isolated = 0;
+    for (const t of truth.trees) {
+      if (truth.trees.some((o) => o !== t && Math.hypot(o.x - t.x, o.y - t.y) < o.crownRadiusM + t.crownRadiusM)) continue;
+      isolated++;
+      expect(Math.abs(t.visibleCrownAreaM2 / (Math.PI * t.crownRadiusM ** 2) - 1)).toBeLessThan(0.03);
+    }
+    expect(isolated).toBeGreaterThan(30);
     expect(new Set(truth.trees.map((t) => t.group))).toEqual(new Set(['broadleaf', 'conifer']));
   });
 });
