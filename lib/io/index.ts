@@ -3,7 +3,7 @@ export { readLasHeader, parseHeader, hasLasSignature, findLazVlr, POINT_RECORD_S
 export type { ParsedLas } from './las-header.js';
 export { decodeRecords, allocChunk, colourScaleFor, applyColourScale, lasChunks, CHUNK_POINTS } from './las-points.js';
 export { decodeLazChunk, decodeLazChunkPieces, lazChunks, lazPerfProvider, LazPerfHandle, checkChunkBounds } from './laz.js';
-export type { LazPerf, LazPerfProvider } from './laz.js';
+export type { LazPerf, LazPerfProvider, Factory as LazPerfFactory } from './laz.js';
 export { readLazChunkTable, encodeLazChunkTable, decodeChunkTableEntries, parseLazVlr, checkLazSupported, chunkTableOffset, VARIABLE_CHUNK_SIZE } from './laz-chunk-table.js';
 export type { LazChunkEntry, LazInfo, LazItem } from './laz-chunk-table.js';
 export { openPointCloud } from './open.js';

@@ -43,12 +43,17 @@ export type LazPerfProvider = () => Promise<LazPerf>;
  * A provider that loads the `laz-perf` package. In Node its own loader finds
  * the .wasm beside it. In a bundled browser app pass the .wasm location
  * (with Vite: `import wasmUrl from 'laz-perf/lib/web/laz-perf.wasm?url'`) or
- * its bytes, since the bundle moves the script away from the .wasm.
+ * its bytes, since the bundle moves the script away from the .wasm. `factory`
+ * picks a particular Emscripten build, e.g. the default export of
+ * 'laz-perf/lib/worker/laz-perf.js' inside a Web Worker.
  */
-export function lazPerfProvider(opts: { wasmUrl?: string | URL; wasmBinary?: ArrayBuffer | Uint8Array } = {}): LazPerfProvider {
+export function lazPerfProvider(opts: { wasmUrl?: string | URL; wasmBinary?: ArrayBuffer | Uint8Array; factory?: Factory } = {}): LazPerfProvider {
   return async () => {
-    const mod = (await import('laz-perf')) as unknown as { createLazPerf?: Factory; default?: { createLazPerf?: Factory } };
-    const create = mod.createLazPerf ?? mod.default?.createLazPerf;
+    let create = opts.factory;
+    if (!create) {
+      const mod = (await import('laz-perf')) as unknown as { createLazPerf?: Factory; default?: { createLazPerf?: Factory } };
+      create = mod.createLazPerf ?? mod.default?.createLazPerf;
+    }
     if (!create) throw new CrowntallyError('INTERNAL', 'the laz-perf package does not export createLazPerf');
     const args: Record<string, unknown> = {};
     if (opts.wasmBinary) args['wasmBinary'] = opts.wasmBinary;
@@ -56,7 +61,8 @@ export function lazPerfProvider(opts: { wasmUrl?: string | URL; wasmBinary?: Arr
     return create(args);
   };
 }
-type Factory = (args?: Record<string, unknown>) => Promise<LazPerf>;
+/** An Emscripten module factory such as laz-perf's createLazPerf. */
+export type Factory = (args?: Record<string, unknown>) => Promise<LazPerf>;
 
 /** Holds one laz-perf instance; `discard` after a throw so the next use starts clean. */
 export class LazPerfHandle {

@@ -8,7 +8,7 @@ import path from 'node:path';
 import { readFile } from 'node:fs/promises';
 import { createRequire } from 'node:module';
 import { fileSource } from '../../lib/node/file-source.js';
-import { lazPerfProvider, openPointCloud, type LazPerfProvider } from '../../lib/io/index.js';
+import { lazPerfProvider, openPointCloud, type LazPerfFactory, type LazPerfProvider } from '../../lib/io/index.js';
 
 const FIX = path.resolve(__dirname, '../../../shared/fixtures/laz-pairs');
 const wasmPath = createRequire(import.meta.url).resolve('laz-perf/lib/node/laz-perf.wasm');
@@ -27,6 +27,9 @@ it('default, by location and by bytes all decode the same points as the LAS twin
   expect(await zs('point-color.las.laz')).toEqual(ref);
   expect(await zs('point-color.las.laz', lazPerfProvider({ wasmUrl: wasmPath }))).toEqual(ref);
   expect(await zs('point-color.las.laz', lazPerfProvider({ wasmBinary: await readFile(wasmPath) }))).toEqual(ref);
+  const req = createRequire(import.meta.url);
+  const factory = req('laz-perf/lib/node/laz-perf.js') as LazPerfFactory;
+  expect(await zs('point-color.las.laz', lazPerfProvider({ factory, wasmBinary: await readFile(wasmPath) }))).toEqual(ref);
 });
 
 it('a provider that fails is retried on the next read', async () => {
