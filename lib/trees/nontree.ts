@@ -9,6 +9,13 @@ export interface NonTreeOptions {
   /** Points per cell and class-6 (building) points per cell, same geometry as the labels. */
   pointCount?: Grid<Uint32Array>;
   buildingCount?: Grid<Uint32Array>;
+  /**
+   * Single returns (1 of 1) per cell, same geometry; with pointCount it enables the solid-surface test.
+   * Give it only for clouds with return numbers.
+   */
+  singleReturnCount?: Grid<Uint32Array>;
+  /** A crown of at least 20 returns of which this share or more are single returns is a solid surface. Default 0.95. */
+  maxSingleShare?: number;
   /** True when the survey carries class 6 at all: then the class decides, not the shape. */
   hasBuildingClass?: boolean;
   /** CRS unit to metres. Default 1. */
@@ -17,8 +24,10 @@ export interface NonTreeOptions {
   maxBuildingShare?: number;
   /** A crown of at least minPlaneAreaM2 whose best-fit plane leaves an RMS residual below this (m) is a roof. Default 0.15 m. */
   maxPlaneRmsM?: number;
-  /** Smallest crown (m2) the whole-crown plane test applies to. Default 12 m2. */
+  /** Smallest crown (m2) the whole-crown plane test applies to (and at least 5 cells, so the fit is overdetermined). Default 4 m2. */
   minPlaneAreaM2?: number;
+  /** A crown below this area (m2) that meets a roof crown with no step in the surface is a piece of that roof. Default 12 m2. */
+  maxFragmentAreaM2?: number;
   /** A cell is locally planar when it departs from its 3x3 best-fit plane by less than this (m). Default 0.05 m, about the vertical noise of a lidar roof. */
   localPlaneToleranceM?: number;
   /** A crown with at least this share of locally planar cells is a roof (flat or pitched). Default 0.6. */
@@ -43,16 +52,21 @@ export interface NonTreeResult {
  * are rough. Two tests, either one rejects:
  *  - whole crown: a least-squares plane z = a + b x + c y over the crown's
  *    cells leaves an RMS residual below maxPlaneRmsM (flat or single tilted
- *    face), for crowns of at least minPlaneAreaM2;
+ *    face), for crowns of at least minPlaneAreaM2 and 5 cells (narrow decks
+ *    and roof strips too thin for the 3x3 stencil);
  *  - local: on a regular 3x3 stencil the least-squares plane's value at the
  *    centre is the mean of the nine cells (the x and y sums vanish), so a
  *    cell is locally planar when |h - mean9| < localPlaneToleranceM. A crown
  *    whose cells are at least maxPlanarShare locally planar is a roof even
  *    when it spans a ridge (only ridge and eave cells are non-planar).
+ *  - solid surface (when single-return counts are given): a laser pulse
+ *    that meets a roof or deck returns once, one that meets foliage often
+ *    returns several times, so a crown of at least 20 returns that are
+ *    nearly all single returns (maxSingleShare) is not a tree (common practice).
  * The stencil reads the surface regardless of labels, so a roof split into
  * several crowns by noise is judged as the roof it is; a small crown
- * (below minPlaneAreaM2) that meets a roof crown with no step in the surface
- * is a cut-off piece of that roof. Trade-offs: a clipped
+ * that meets a roof crown with no step in the surface is a cut-off piece of
+ * that roof (below maxFragmentAreaM2). Trade-offs: a clipped
  * hedge with a flat top is left out too; a crown with fewer than 4 cells is
  * never judged by shape.
  */
@@ -61,7 +75,7 @@ export function rejectNonTrees(labels: Grid<Int32Array>, tops: Treetops, opts: N
   const { width: W, height: H } = labels;
   const N = W * H;
   const surf = opts.dsm ?? opts.chm;
-  for (const g of [surf, opts.chm, opts.pointCount, opts.buildingCount]) {
+  for (const g of [surf, opts.chm, opts.pointCount, opts.buildingCount, opts.singleReturnCount]) {
     if (g && (g.width !== W || g.height !== H)) {
       throw new CrowntallyError('INTERNAL', `grids for roof rejection must match the ${W} x ${H} label grid (got ${g.width} x ${g.height})`);
     }
@@ -69,15 +83,19 @@ export function rejectNonTrees(labels: Grid<Int32Array>, tops: Treetops, opts: N
   const n = tops.count;
   const maxShare = opts.maxBuildingShare ?? 0.5;
   const maxRms = opts.maxPlaneRmsM ?? 0.15;
-  const minArea = opts.minPlaneAreaM2 ?? 12;
+  const minArea = opts.minPlaneAreaM2 ?? 4;
+  const maxFragment = opts.maxFragmentAreaM2 ?? 12;
   const tol = opts.localPlaneToleranceM ?? 0.05;
   const maxPlanar = opts.maxPlanarShare ?? 0.6;
   const cellM = labels.cellSize * unitM;
   const z = surf.data, lab = labels.data;
   const byClass = opts.hasBuildingClass === true && !!opts.pointCount && !!opts.buildingCount;
+  const bySingles = !!opts.pointCount && !!opts.singleReturnCount;
+  const maxSingle = opts.maxSingleShare ?? 0.95;
 
   // Per crown: cells, planar cells, plane-fit sums (x, y in metres from the top), building and all returns.
   const cells = new Float64Array(n), planar = new Float64Array(n), pts = new Float64Array(n), bld = new Float64Array(n);
+  const sgl = new Float64Array(n);
   const S = new Float64Array(n * 9); // sx sy sz sxx sxy syy sxz syz szz
   for (let r = 0; r < H; r++) {
     for (let c = 0; c < W; c++) {
@@ -86,7 +104,9 @@ export function rejectNonTrees(labels: Grid<Int32Array>, tops: Treetops, opts: N
       if (L === 0) continue;
       if (L < 0 || L > n) throw new CrowntallyError('INTERNAL', `label ${L} at cell (${c}, ${r}) is outside 1..${n}`);
       const k = L - 1;
-      if (byClass) { pts[k]! += opts.pointCount!.data[i]!; bld[k]! += opts.buildingCount!.data[i]!; }
+      if (byClass || bySingles) pts[k]! += opts.pointCount!.data[i]!;
+      if (byClass) bld[k]! += opts.buildingCount!.data[i]!;
+      if (bySingles) sgl[k]! += opts.singleReturnCount!.data[i]!;
       const h = z[i]!;
       if (!Number.isFinite(h)) continue;
       cells[k]!++;
@@ -113,11 +133,12 @@ export function rejectNonTrees(labels: Grid<Int32Array>, tops: Treetops, opts: N
       roof[k] = pts[k]! > 0 && bld[k]! / pts[k]! >= maxShare ? 1 : 0;
     } else if (cells[k]! >= 4) {
       if (planar[k]! / cells[k]! >= maxPlanar) roof[k] = 1;
-      else if (cells[k]! * cellM * cellM >= minArea && planeRms(S, k * 9, cells[k]!) < maxRms) roof[k] = 1;
+      else if (bySingles && pts[k]! >= 20 && sgl[k]! / pts[k]! >= maxSingle) roof[k] = 1;
+      else if (cells[k]! >= 5 && cells[k]! * cellM * cellM >= minArea && planeRms(S, k * 9, cells[k]!) < maxRms) roof[k] = 1;
     }
   }
   if (!byClass) {
-    // Roof fragments: a crown smaller than minPlaneAreaM2 that meets a roof crown along an edge with
+    // Roof fragments: a crown smaller than maxFragmentAreaM2 that meets a roof crown along an edge with
     // no step in the surface (|dz| < tolerance) is a piece of that roof cut off by the flooding.
     const fragment = new Uint8Array(n);
     for (let r = 0; r < H; r++) for (let c = 0; c < W; c++) {
@@ -127,8 +148,8 @@ export function rejectNonTrees(labels: Grid<Int32Array>, tops: Treetops, opts: N
         if (j < 0) continue;
         const b = lab[j]!;
         if (b === 0 || b === a || !(Math.abs(z[i]! - z[j]!) < tol)) continue;
-        if (roof[a - 1] && !roof[b - 1] && cells[b - 1]! * cellM * cellM < minArea) fragment[b - 1] = 1;
-        if (roof[b - 1] && !roof[a - 1] && cells[a - 1]! * cellM * cellM < minArea) fragment[a - 1] = 1;
+        if (roof[a - 1] && !roof[b - 1] && cells[b - 1]! * cellM * cellM < maxFragment) fragment[b - 1] = 1;
+        if (roof[b - 1] && !roof[a - 1] && cells[a - 1]! * cellM * cellM < maxFragment) fragment[a - 1] = 1;
       }
     }
     for (let k = 0; k < n; k++) if (fragment[k]) roof[k] = 1;

@@ -32,8 +32,9 @@ const MAX_RADIUS_CELLS = 512;
  * height, Popescu & Wynne 2004). A cell is a top when no cell inside the
  * disc of that diameter centred on it is higher (ties allowed at this
  * stage). Most cells are ruled out first by the 3x3 neighbourhood, so the
- * disc test runs only on 3x3 maxima (when the disc reaches the diagonal
- * neighbours, radius >= sqrt(2) cells; smaller discs are tested directly).
+ * disc test runs only on 3x3 maxima. The window is never smaller than the
+ * 3x3 neighbourhood (radius at least sqrt(2) cells, common practice): a
+ * smaller disc on a coarse CHM would make every 4-neighbour bump a tree.
  *
  * Plateaus: the surviving cells are grouped into 8-connected components of
  * equal height; each component yields exactly one top, the member cell
@@ -49,7 +50,6 @@ export function findTreetops(chm: Grid, opts: TreetopOptions): Treetops {
   }
   const { width: W, height: H, data } = chm;
   if (data.length !== W * H) throw new CrowntallyError('INTERNAL', `CHM holds ${data.length} values for a ${W} x ${H} grid`);
-  const cellM = chm.cellSize * unitM;
   const win = windowFunction(opts.window);
   const minH = opts.minHeightM;
 
@@ -60,9 +60,8 @@ export function findTreetops(chm: Grid, opts: TreetopOptions): Treetops {
       const i = r * W + c;
       const h = data[i]!;
       if (!(h >= minH)) continue; // NaN fails too
-      const radius = Math.min(MAX_RADIUS_CELLS, (win(h) / 2) / cellM);
-      // The 3x3 prune is only valid when the disc covers the diagonal neighbours.
-      if (radius >= Math.SQRT2 && !isMax3x3(data, W, H, c, r, h)) continue;
+      const radius = discRadiusCells(win(h), chm.cellSize, unitM);
+      if (!isMax3x3(data, W, H, c, r, h)) continue;
       if (isDiscMax(data, W, H, c, r, h, radius)) cand[i] = 1;
     }
   }
@@ -155,7 +154,7 @@ function isDiscMax(d: Float32Array, W: number, H: number, c: number, r: number, 
   return true;
 }
 
-/** Disc radius in cells that findTreetops uses for a window diameter, exposed for reference tests. */
+/** Disc radius in cells that findTreetops uses for a window diameter (m): at least sqrt(2), the 3x3 neighbourhood. */
 export function discRadiusCells(windowM: number, cellSize: number, unitM = 1): number {
-  return Math.min(MAX_RADIUS_CELLS, (windowM / 2) / (cellSize * unitM));
+  return Math.min(MAX_RADIUS_CELLS, Math.max(Math.SQRT2, (windowM / 2) / (cellSize * unitM)));
 }

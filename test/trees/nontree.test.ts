@@ -66,3 +66,20 @@ describe('rejectNonTrees on rough canopies', () => {
     expect(r.removed).toBe(0);
   });
 });
+
+describe('rejectNonTrees with single-return counts', () => {
+  it('a crown of nearly all single returns is a solid surface; a tree with multiple returns is kept', () => {
+    const s = scene();
+    const tops = findTreetops(s.chm, { minHeightM: 2, window: 'combined' });
+    const labels = growCrowns(s.chm, tops, { minHeightM: 2, floorFraction: 0.3, reachM: 'auto', window: 'combined' });
+    // Invented counts: 10 returns per cell; on roofs all single, elsewhere 2 of 10 single.
+    const all: Grid<Uint32Array> = { ...s.counts, data: s.counts.data.map(() => 10) };
+    const single: Grid<Uint32Array> = { ...s.counts, data: s.building.data.map((b) => (b > 0 ? 10 : 2)) };
+    // Zero tolerances turn the shape tests off, so only the return test can reject.
+    const r = rejectNonTrees(labels, tops, { chm: s.chm, pointCount: all, singleReturnCount: single, localPlaneToleranceM: 0, maxPlaneRmsM: 0, maxFragmentAreaM2: 0 });
+    expect(r.tops.count).toBe(1);
+    expect(r.tops.x[0]!).toBeCloseTo(48, 0);
+    const none = rejectNonTrees(labels, tops, { chm: s.chm, localPlaneToleranceM: 0, maxPlaneRmsM: 0, maxFragmentAreaM2: 0 });
+    expect(none.removed).toBe(0); // the same crowns stay without the counts: the return test did the work
+  });
+});

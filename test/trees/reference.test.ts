@@ -22,9 +22,9 @@ describe.skipIf(!ok)('treetops and crowns against SciPy and scikit-image', () =>
     });
   }
 
-  // Windows whose disc is smaller than the 3x3 neighbourhood (radius 1 and 1.3 cells).
+  // Windows whose disc would be smaller than the 3x3 neighbourhood (radius 1 and 1.3 cells) are held at it.
   for (const windowM of [1.0, 1.3]) {
-    it(`small window ${windowM} m on 0.5 m cells`, () => {
+    it(`small window ${windowM} m on 0.5 m cells is held at the 3x3 neighbourhood`, () => {
       const { grid } = syntheticCanopy(5, 60, 50, 12, 0.5, 0.3);
       const s = compareWithReference(grid, { minHeightM: 2, windowM });
       expect(s.topsNotAtMax).toBe(0); // scipy.ndimage.maximum_filter
