@@ -194,3 +194,30 @@ describe('writeLas read back with the project reader', () => {
     }
   });
 });
+
+describe('writeLas read by an independent reader', () => {
+  it('gives @loaders.gl/las (laz-perf based, LAS up to 1.3) the same positions, intensity and classes for formats 0-3', async () => {
+    const { LASLoader } = await import('@loaders.gl/las');
+    const { parse } = await import('@loaders.gl/core');
+    const c = chunk(7);
+    for (const f of [0, 1, 2, 3] as const) {
+      const bytes = writeLas(c, { ...opts, pointFormat: f });
+      // Outside reference: @loaders.gl/las parses the file on its own.
+      const r = (await parse(bytes.slice().buffer, LASLoader, { worker: false, las: { shape: 'mesh', fp64: true } } as never)) as unknown as {
+        header: { vertexCount: number };
+        attributes: Record<string, { value: ArrayLike<number>; size?: number }>;
+      };
+      expect(r.header.vertexCount).toBe(7);
+      const pos = r.attributes.POSITION!.value, inten = r.attributes.intensity!.value, cls = r.attributes.classification!.value;
+      for (let i = 0; i < 7; i++) {
+        expect(pos[3 * i]).toBeCloseTo(c.x[i]!, 6);
+        expect(pos[3 * i + 1]).toBeCloseTo(c.y[i]!, 6);
+        expect(pos[3 * i + 2]).toBeCloseTo(c.z[i]!, 6);
+        expect(inten[i]).toBe(c.intensity[i]);
+        // That reader hands back the whole byte: class in bits 0-4, withheld in bit 7 (ASPRS LAS 1.4 R15, format 0).
+        expect(cls[i]).toBe(c.classification[i]! | (c.flags[i]! & FLAG_WITHHELD ? 128 : 0));
+      }
+      expect(Boolean(r.attributes.COLOR_0)).toBe(f === 2 || f === 3);
+    }
+  });
+});
