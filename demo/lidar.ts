@@ -128,7 +128,8 @@ export function scanScene(scene: Scene, solids: Solids, rng: Rng, opt: ScanOptio
     const x0l = Math.max(-margin, xl - halfSwath), x1l = Math.min(W + margin, xl + halfSwath);
     const cols = Math.max(1, Math.round((x1l - x0l) / sp)), rows = Math.max(1, Math.round(H / sp));
     const spx = (x1l - x0l) / cols, spy = H / rows;
-    const overlapEdge = li > 0 ? lines[li - 1]! + halfSwath : -Infinity;
+    const prevLine = li > 0 ? lines[li - 1]! : -Infinity;
+    const nextLine = li + 1 < lines.length ? lines[li + 1]! : Infinity;
     const lineStart = opt.gpsStart + li * 120;
     const rowDt = spy / speed;
     for (let r = 0; r < rows; r++) {
@@ -140,7 +141,9 @@ export function scanScene(scene: Scene, solids: Solids, rng: Rng, opt: ScanOptio
         // Scan angle sign: positive to the right of the flight direction (from memory of the LAS convention).
         const angle = ((northbound ? 1 : -1) * Math.atan(slope) * 180) / Math.PI;
         const time = lineStart + r * rowDt + (q / cols) * rowDt;
-        const overlap = xg < overlapEdge;
+        // Where two swaths overlap, the points farther from their own line (the larger scan
+        // angle) carry the overlap flag, so the kept points are the nearer-nadir ones (common practice).
+        const overlap = (xg < prevLine + halfSwath && xl - xg > xg - prevLine) || (xg > nextLine - halfSwath && xg - xl > nextLine - xg);
         const x0 = xg - slope * (z0 - zRef);
         const uG = intersectGround(t, x0, yg, z0, slope);
         // Candidate solids from the hash cells the ray's footprint crosses.

@@ -8,7 +8,8 @@ import { aoiBounds, markInside, rectIntersect, type Rect } from './aoi.js';
 import { CrowntallyError, throwIfAborted } from './errors.js';
 import { chunkBytes, subsetChunk } from './io/chunks.js';
 import { crsFromUserText } from './io/crs.js';
-import { openPointCloud, type LazPerfProvider } from './io/open.js';
+import { openPointCloud } from './io/open.js';
+import type { LazPerfProvider } from './io/laz.js';
 import { ReadoutAccumulator } from './io/readout.js';
 import type { ByteSource, CrsInfo, PointChunk, PointCloud, SurveyReadout } from './io/types.js';
 import { resolveOptions, type TallyOptions } from './options.js';
@@ -186,7 +187,7 @@ export async function tallyClouds(clouds: PointCloud[], options: TallyOptions, r
 
   // Pass 1: read-out, surfaces, and the point cache while it fits the budget.
   const readouts = clouds.map((c) => new ReadoutAccumulator(c));
-  const surfaces = new SurfaceAccumulator(geometry, { verticalUnitM: vu, dropOverlap: options.dropOverlap });
+  const surfaces = new SurfaceAccumulator(geometry, { verticalUnitM: vu, horizontalUnitM: unitM, dropOverlap: options.dropOverlap, maxGridCells: options.maxGridCells });
   const budget = options.pointCacheMiB * 1024 * 1024;
   let cache: PointChunk[] | null = budget > 0 ? [] : null;
   let cacheBytes = 0;
@@ -236,7 +237,7 @@ export async function tallyClouds(clouds: PointCloud[], options: TallyOptions, r
   if (ground.count === 0) throw new CrowntallyError('NO_GROUND', 'no ground could be found under the survey, so heights above ground cannot be measured');
 
   progress.report('dtm', 0);
-  const dtm = tinDtm(ground, geometry);
+  const dtm = tinDtm(ground, geometry, { maxGridCells: options.maxGridCells, horizontalUnitM: unitM });
   progress.report('chm', 0);
   const chm = canopyHeight(s.dsm, dtm, { fillPits: options.fillPits });
   const sigmaCells = options.smoothSigmaM / cellSizeM;
@@ -264,7 +265,12 @@ export async function tallyClouds(clouds: PointCloud[], options: TallyOptions, r
   const profile = new ProfileAccumulator(dtm, { layerM: options.profileLayerM, verticalUnitM: vu });
   let done = 0;
   let keepMask = new Uint8Array(0);
+  let outlierMask = new Uint8Array(0);
   const feed = (c: PointChunk) => {
+    // Returns the isolation test took out of the DSM stay out of the crowns' metrics too.
+    if (outlierMask.length < c.count) outlierMask = new Uint8Array(c.count);
+    const n = markBelowSurface(c, s.dsm, vu, outlierMask);
+    if (n < c.count) c = subsetChunk(c, outlierMask, n);
     metrics.add(c);
     if (run.keep) {
       // Tiles: the survey-wide profile counts each point once, in the tile that owns it.
@@ -296,6 +302,29 @@ export async function tallyClouds(clouds: PointCloud[], options: TallyOptions, r
   for (const w of readout.warnings) if (!warnings.includes(w)) warnings.push(w);
   run.onProgress?.({ stage: 'done', fraction: 1, pointsRead: read, pointsTotal });
   return { readout, crs, options: { ...options, cellSizeM }, chm, dtm, labels, trees, summary, warnings };
+}
+
+/**
+ * Marks the points at or below the (outlier-cleaned) DSM of their cell; a
+ * point above it is a return the isolation test removed. Points outside the
+ * grid are kept (later stages ignore them).
+ */
+function markBelowSurface(c: PointChunk, dsm: Grid, vu: number, keep: Uint8Array): number {
+  const { width, height, cellSize, originX, originY, data } = dsm;
+  const inv = 1 / cellSize;
+  let n = 0;
+  for (let i = 0; i < c.count; i++) {
+    const fc = (c.x[i]! - originX) * inv, fr = (originY - c.y[i]!) * inv;
+    let k = 1;
+    if (fc >= 0 && fc < width && fr >= 0 && fr < height) {
+      const top = data[(fr | 0) * width + (fc | 0)]!;
+      // 1 mm slack for float32 rounding of the DSM.
+      if (Number.isNaN(top) ? c.classification[i] !== 7 && c.classification[i] !== 18 && (c.flags[i]! & 4) === 0 : c.z[i]! * vu > top + 1e-3) k = 0;
+    }
+    keep[i] = k;
+    n += k;
+  }
+  return n;
 }
 
 /** Drops trees whose top lies outside `keep` (tiles) and renumbers labels compactly. */

@@ -27,7 +27,12 @@ export interface SurfaceOptions {
   dropOverlap?: boolean;
   /** Collect the class-2 ground grid (it is always cheap; false skips it). Default true. */
   useGroundClass?: boolean;
-  /** A highest return standing more than this (m) above every other return in its 3x3 cells is an outlier. Default 5 m. */
+  /**
+   * A highest return standing more than this (m) above every other return in
+   * its 3x3 cells is an outlier. Default 8 m: the leader of a narrow conifer
+   * can stand 5-6 m above the nearest other returns at 10 pulses per m2, while
+   * birds and multipath echoes stand well clear of the canopy.
+   */
   highOutlierM?: number;
   /** A lowest point lying more than this (m) below every other lowest point around it is an outlier. Default 2 m. */
   lowOutlierM?: number;
@@ -62,6 +67,11 @@ export interface Surfaces {
   buildingCounts: Grid<Uint32Array>;
   /** The same grid as `counts` (alias). */
   count: Grid<Uint32Array>;
+  /**
+   * Points per cell that are one of several returns of their pulse: pulses
+   * that went through something, as foliage lets them and roofs do not.
+   */
+  multiReturnCounts: Grid<Uint32Array>;
   /** The same grid as `buildingCounts` (alias). */
   buildingCount: Grid<Uint32Array>;
   /** True when at least one used point carried class 6. */
@@ -97,6 +107,7 @@ export class SurfaceAccumulator {
   private readonly dropOverlap: boolean;
   private readonly useGroundClass: boolean;
   private readonly highOutlierM: number;
+  private readonly multi: Uint32Array;
   private readonly lowOutlierM: number;
   private readonly max1: Float32Array;
   private readonly max2: Float32Array;
@@ -123,7 +134,7 @@ export class SurfaceAccumulator {
   constructor(geometry: GridGeometry, opts: SurfaceOptions = {}) {
     this.vUnit = positive(opts.verticalUnitM ?? 1, 'verticalUnitM');
     this.hUnit = positive(opts.horizontalUnitM ?? 1, 'horizontalUnitM');
-    this.highOutlierM = positive(opts.highOutlierM ?? 5, 'highOutlierM');
+    this.highOutlierM = positive(opts.highOutlierM ?? 8, 'highOutlierM');
     this.lowOutlierM = positive(opts.lowOutlierM ?? 2, 'lowOutlierM');
     this.dropOverlap = opts.dropOverlap ?? true;
     this.useGroundClass = opts.useGroundClass ?? true;
@@ -135,6 +146,7 @@ export class SurfaceAccumulator {
     this.max2 = new Float32Array(n).fill(-Infinity);
     this.count = new Uint32Array(n);
     this.building = new Uint32Array(n);
+    this.multi = new Uint32Array(n);
     this.lowZ = new Float32Array(n).fill(Infinity);
     this.lowDx = new Float32Array(n);
     this.lowDy = new Float32Array(n);
@@ -148,7 +160,7 @@ export class SurfaceAccumulator {
   add(chunk: PointChunk): void {
     if (this.finished) throw new CrowntallyError('INTERNAL', 'SurfaceAccumulator.add called after finish');
     const { width, height, cellSize, originX, originY } = this.geometry;
-    const { x, y, z, classification: cls, flags } = chunk;
+    const { x, y, z, classification: cls, flags, numberOfReturns: nret } = chunk;
     const n = chunk.count;
     if (!(Number.isInteger(n) && n >= 0 && x.length >= n && y.length >= n && z.length >= n && cls.length >= n && flags.length >= n)) {
       throw new CrowntallyError('INTERNAL', `point chunk claims ${n} points but its arrays are shorter`);
@@ -157,7 +169,7 @@ export class SurfaceAccumulator {
     const vu = this.vUnit;
     const dropOverlap = this.dropOverlap;
     const useG = this.useGroundClass;
-    const { max1, max2, count, building, lowZ, lowDx, lowDy, gZ, gDx, gDy } = this;
+    const { max1, max2, count, building, multi, lowZ, lowDx, lowDy, gZ, gDx, gDy } = this;
     for (let i = 0; i < n; i++) {
       const c = cls[i];
       if (c === CLASS_LOW_NOISE || c === CLASS_HIGH_NOISE) { this.noise++; continue; }
@@ -173,6 +185,7 @@ export class SurfaceAccumulator {
       const k = row * width + col;
       this.used++;
       count[k]++;
+      if (nret[i]! > 1) multi[k]++;
       if (pz > max1[k]) { max2[k] = max1[k]; max1[k] = pz; } else if (pz > max2[k]) max2[k] = pz;
       if (pz < lowZ[k]) {
         lowZ[k] = pz;
@@ -250,6 +263,7 @@ export class SurfaceAccumulator {
       buildingCounts,
       count: counts,
       buildingCount: buildingCounts,
+      multiReturnCounts: { ...geom, data: this.multi },
       hasBuildingClass: this.buildingSeen,
       hasGroundClass: this.groundSeen,
       pointsUsed: this.used,
