@@ -89,15 +89,18 @@ export async function toUsSurveyFeet(las: Uint8Array): Promise<Uint8Array> {
  * only the first return of each pulse (nothing under the canopy), and denser:
  * each kept point is joined by `densityFactor - 1` neighbours within 0.15 m
  * horizontally with 5 cm of height noise (surface matching is noisier than ranging).
+ * Low noise (class 7) is dropped.
  */
 export async function photogrammetricLike(las: Uint8Array, opts: { densityFactor?: number; seed?: number } = {}): Promise<Uint8Array> {
   const k = opts.densityFactor ?? 2;
   if (!(Number.isInteger(k) && k >= 1 && k <= 8)) throw new CrowntallyError('BAD_OPTIONS', `densityFactor must be a whole number 1-8 (got ${k})`);
   const { points: p, header, wkt } = await readSurvey(las);
   const rng = makeRng(opts.seed ?? 7);
-  let kept = 0;
-  for (let i = 0; i < p.count; i++) if (p.returnNumber[i]! <= 1 && p.classification[i] !== 7) kept++;
-  const n = kept * k;
+  // Unclassified points (in the demo surveys: the lone high outliers) are not densified, so a
+  // lone outlier stays a lone point instead of turning into a small cluster.
+  const copies = (cls: number) => (cls === 1 || cls === 0 ? 1 : k);
+  let n = 0;
+  for (let i = 0; i < p.count; i++) if (p.returnNumber[i]! <= 1 && p.classification[i] !== 7) n += copies(p.classification[i]!);
   const o: PointChunk = {
     count: n, x: new Float64Array(n), y: new Float64Array(n), z: new Float64Array(n), intensity: new Uint16Array(n),
     returnNumber: new Uint8Array(n).fill(1), numberOfReturns: new Uint8Array(n).fill(1), classification: new Uint8Array(n),
@@ -109,7 +112,7 @@ export async function photogrammetricLike(las: Uint8Array, opts: { densityFactor
   for (let i = 0; i < p.count; i++) {
     if (p.returnNumber[i]! > 1 || p.classification[i] === 7) continue;
     const rgb = p.red && p.green && p.blue ? [p.red[i]!, p.green[i]!, p.blue[i]!] : fallback(p.classification[i]!);
-    for (let c = 0; c < k; c++, j++) {
+    for (let c = 0, m = copies(p.classification[i]!); c < m; c++, j++) {
       const jitter = c === 0 ? 0 : 0.15;
       o.x[j] = p.x[i]! + rng.range(-jitter, jitter);
       o.y[j] = p.y[i]! + rng.range(-jitter, jitter);
