@@ -174,3 +174,21 @@ describe('header and record layout (ASPRS LAS 1.4 R15)', () => {
     expect(r.cols['numberOfReturns']).toEqual([2, 2]);
   });
 });
+
+describe('progress and cancel', () => {
+  for (const f of ['autzen_trim.las', 'autzen_trim.laz']) {
+    it(`${f}: progress after each chunk; an aborted signal stops with ABORTED`, async () => {
+      const pc = await openPointCloud(await fileSource(path.join(FIX, f)), { lazPerf });
+      const seen: [number, number][] = [];
+      for await (const c of pc.chunks({ onProgress: (a, b) => seen.push([a, b]) })) void c;
+      // common practice: progress counts the points handed out so far, out of the header count.
+      expect(seen).toEqual([[50000, 110000], [100000, 110000], [110000, 110000]]);
+      const ac = new AbortController();
+      let n = 0;
+      await expect((async () => { for await (const c of pc.chunks({ signal: ac.signal })) { n += c.count; ac.abort(); } })())
+        .rejects.toMatchObject({ code: 'ABORTED' });
+      expect(n).toBe(50000);
+      await pc.close();
+    });
+  }
+});
