@@ -82,9 +82,7 @@ export function growCrowns(chm: Grid, tops: Treetops, opts: CrownOptions): Grid<
   const head = new Int32Array(levels).fill(-1);
   const tail = new Int32Array(levels).fill(-1);
   const next = new Int32Array(N);
-  let cur = levels; // lowest non-empty level index seen so far
   const push = (i: number, lev: number) => {
-    if (lev < cur) cur = lev;
     next[i] = -1;
     if (tail[lev]! < 0) head[lev] = i; else next[tail[lev]!] = i;
     tail[lev] = i;
@@ -102,6 +100,7 @@ export function growCrowns(chm: Grid, tops: Treetops, opts: CrownOptions): Grid<
   }
 
   const minH = opts.minHeightM;
+  let cur = 0; // flood level: pushes never go above it, so the scan only moves down
   while (cur < levels) {
     const i = head[cur]!;
     if (i < 0) { tail[cur] = -1; cur++; continue; }
@@ -125,7 +124,12 @@ export function growCrowns(chm: Grid, tops: Treetops, opts: CrownOptions): Grid<
       if (dc * dc + dr * dr > rr) continue;
       labels[j] = lab;
       // A higher neighbour than the flood level joins the current level (hierarchical queue rule).
-      push(j, Math.max(level, levelOf(h)));
+      let lev = Math.floor((hiH - h) / step);
+      if (lev > levels - 1) lev = levels - 1;
+      if (lev < level) lev = level;
+      next[j] = -1;
+      if (tail[lev]! < 0) head[lev] = j; else next[tail[lev]!] = j;
+      tail[lev] = j;
     }
   }
   return out;
