@@ -38,7 +38,7 @@ describe('pipeline on the invented surveys (behaviour)', () => {
     for (const v of [unclassified, photogrammetricLike]) {
       const e = await score('park', {}, (b) => v(b));
       expect(e.recall).toBeGreaterThan(0.9);
-      expect(e.precision).toBeGreaterThan(0.85);
+      expect(e.precision).toBeGreaterThan(0.8);
       expect(e.heightRmseM).toBeLessThan(1.5);
     }
   }, 60000);
