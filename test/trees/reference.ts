@@ -1,4 +1,4 @@
-// Helpers shared by the tree tests: seeded synthetic canopies and the
+// Shared pieces of the tree tests: seeded synthetic canopies and the
 // scikit-image / SciPy reference run (test/reference/watershed_ref.py).
 import { execFileSync } from 'node:child_process';
 import { mkdtempSync, readFileSync, rmSync, writeFileSync, existsSync } from 'node:fs';
