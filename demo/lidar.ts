@@ -130,6 +130,10 @@ export function scanScene(scene: Scene, solids: Solids, rng: Rng, opt: ScanOptio
     const spx = (x1l - x0l) / cols, spy = H / rows;
     const prevLine = li > 0 ? lines[li - 1]! : -Infinity;
     const nextLine = li + 1 < lines.length ? lines[li + 1]! : Infinity;
+    // Where two swaths overlap, a return farther from its own line than from the other (the larger
+    // scan angle) carries the overlap flag, decided by where the return itself lies, so every place
+    // keeps the returns of the nearer-nadir swath, canopy included (common practice).
+    const isOverlap = (x: number) => (x < prevLine + halfSwath && xl - x > x - prevLine) || (x > nextLine - halfSwath && x - xl > nextLine - x);
     const lineStart = opt.gpsStart + li * 120;
     const rowDt = spy / speed;
     for (let r = 0; r < rows; r++) {
@@ -141,9 +145,6 @@ export function scanScene(scene: Scene, solids: Solids, rng: Rng, opt: ScanOptio
         // Scan angle sign: positive to the right of the flight direction (from memory of the LAS convention).
         const angle = ((northbound ? 1 : -1) * Math.atan(slope) * 180) / Math.PI;
         const time = lineStart + r * rowDt + (q / cols) * rowDt;
-        // Where two swaths overlap, the points farther from their own line (the larger scan
-        // angle) carry the overlap flag, so the kept points are the nearer-nadir ones (common practice).
-        const overlap = (xg < prevLine + halfSwath && xl - xg > xg - prevLine) || (xg > nextLine - halfSwath && xg - xl > nextLine - xg);
         const x0 = xg - slope * (z0 - zRef);
         const uG = intersectGround(t, x0, yg, z0, slope);
         // Candidate solids from the hash cells the ray's footprint crosses.
@@ -206,7 +207,7 @@ export function scanScene(scene: Scene, solids: Solids, rng: Rng, opt: ScanOptio
             cls = vegetationClass(z - groundZ(t, x, yg)); mat = solids.material[s]!;
             if (solids.ownerKind[s] !== OWNER_SHRUB) tree = solids.owner[s]!;
           }
-          emit(x, yg, z, tree, a + 1, kept, angle, time, li, overlap, cls, mat);
+          emit(x, yg, z, tree, a + 1, kept, angle, time, li, isOverlap(x), cls, mat);
         }
       }
     }
