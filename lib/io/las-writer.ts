@@ -104,6 +104,7 @@ function asciiZ(s: string): Uint8Array {
 }
 
 function quantise(v: number, scale: number, offset: number, axis: string, i: number): number {
+  if (!Number.isFinite(v)) bad(`point ${i}: ${axis} is ${v}; every coordinate must be a finite number`);
   const q = Math.round((v - offset) / scale);
   if (!Number.isFinite(q) || q < -2147483648 || q > 2147483647) {
     bad(`point ${i}: ${axis} = ${v} does not fit a 32-bit integer at scale ${scale} and offset ${offset}; choose an offset near the data or a coarser scale`);

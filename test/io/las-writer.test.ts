@@ -151,6 +151,8 @@ describe('writeLas refuses bad input', () => {
     expectCode(() => writeLas(c, { ...opts, pointFormat: 1, wkt: 'x' }), /GeoKeys/);
     expectCode(() => writeLas(c, { ...opts, pointFormat: 5 as never }), /pointFormat/);
     expectCode(() => writeLas(c, { ...opts, pointFormat: 6, scale: [0, 1, 1] }), /scale/);
+    const nan = chunk(2); nan.z[1] = NaN;
+    expectCode(() => writeLas(nan, { ...opts, pointFormat: 6 }), /point 1: z is NaN/);
     const hi = chunk(1); hi.classification[0] = 40;
     expectCode(() => writeLas(hi, { ...opts, pointFormat: 0 }), /class 40/);
   });
