@@ -39,8 +39,8 @@ const MAX_RADIUS_CELLS = 512;
  * Plateaus: the surviving cells are grouped into 8-connected components of
  * equal height; each component yields exactly one top, the member cell
  * nearest the component's centroid (ties: first in row-major order). Two
- * equal-height maxima that are not connected stay two tops; with real-valued
- * heights this is rare.
+ * equal-height maxima that are not connected but lie within one window give
+ * one top: the first in row-major order.
  */
 export function findTreetops(chm: Grid, opts: TreetopOptions): Treetops {
   const unitM = opts.unitM ?? 1;
@@ -109,8 +109,17 @@ export function findTreetops(chm: Grid, opts: TreetopOptions): Treetops {
     rows.push(Math.floor(best / W));
   }
 
-  // Row-major order of the chosen cells (components are found in scan order of their first cell, not of the chosen one).
-  const order = cols.map((_, k) => k).sort((a, b) => (rows[a]! - rows[b]!) || (cols[a]! - cols[b]!));
+  // Equal-height maxima within one window that are not connected (common where heights are stored
+  // in 1 cm steps, as LAS z usually is): keep the first in row-major order, drop the others.
+  const byScan = cols.map((_, k) => k).sort((a, b) => (rows[a]! - rows[b]!) || (cols[a]! - cols[b]!));
+  const mark = new Uint8Array(W * H);
+  const order: number[] = [];
+  for (const k of byScan) {
+    const c = cols[k]!, r = rows[k]!, h = data[r * W + c]!;
+    if (hasMarkedEqual(data, mark, W, H, c, r, h, discRadiusCells(win(h), chm.cellSize, unitM))) continue;
+    mark[r * W + c] = 1;
+    order.push(k);
+  }
   const n = order.length;
   const tops: Treetops = {
     count: n,
@@ -152,6 +161,21 @@ function isDiscMax(d: Float32Array, W: number, H: number, c: number, r: number, 
     for (let nc = c0; nc <= c1; nc++) if (d[base + nc]! > h) return false;
   }
   return true;
+}
+
+/** True when a marked cell of height h lies within `radius` cells of (c, r). */
+function hasMarkedEqual(d: Float32Array, mark: Uint8Array, W: number, H: number, c: number, r: number, h: number, radius: number): boolean {
+  const R = Math.floor(radius);
+  const r2 = radius * radius;
+  for (let dr = -R; dr <= R; dr++) {
+    const nr = r + dr;
+    if (nr < 0 || nr >= H) continue;
+    const span = Math.floor(Math.sqrt(r2 - dr * dr));
+    const c0 = Math.max(0, c - span), c1 = Math.min(W - 1, c + span);
+    const base = nr * W;
+    for (let nc = c0; nc <= c1; nc++) if (mark[base + nc] === 1 && d[base + nc] === h) return true;
+  }
+  return false;
 }
 
 /** Disc radius in cells that findTreetops uses for a window diameter (m): at least sqrt(2), the 3x3 neighbourhood. */

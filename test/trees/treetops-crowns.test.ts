@@ -36,6 +36,14 @@ describe('findTreetops', () => {
     expect(m.count).toBeGreaterThan(0);
   });
 
+  it('equal maxima within one window that do not touch give one top', () => {
+    const g = grid(12, 5, (c, r) => (r === 2 && (c === 4 || c === 6) ? 10 : r === 2 && c === 5 ? 9.9 : 0));
+    const t = findTreetops(g, { minHeightM: 2, window: 5 });
+    expect(t.count).toBe(1);
+    expect(t.col[0]).toBe(4);
+    expect(findTreetops(g, { minHeightM: 2, window: 3 }).count).toBe(2); // 2 m apart, outside a 1.5 m radius
+  });
+
   it('NaN cells are ignored', () => {
     const g = grid(5, 5, (c, r) => (c === 2 && r === 2 ? 8 : NaN));
     expect(findTreetops(g, { minHeightM: 2, window: 3 }).count).toBe(1);
