@@ -25,7 +25,7 @@ export interface TallyOptions {
   window: WindowPreset | WindowTable;
   /** A cell joins a crown only while its height is above this fraction of the crown's top height (0-1). */
   crownFloorFraction: number;
-  /** A cell joins a crown only within this distance (m) of the top; 'auto' = the window diameter at the top's height. */
+  /** A cell joins a crown only within this distance (m) of the top; 'auto' = 1.5 window diameters at the top's height, at least 3 m (lib/trees/crowns.ts). */
   crownReachM: number | 'auto';
   /** Gaussian smoothing of the CHM for treetop detection, sigma in metres; 0 turns it off. */
   smoothSigmaM: number;

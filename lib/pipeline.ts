@@ -22,12 +22,11 @@ import { canopyHeight } from './raster/chm.js';
 import { gaussianSmooth } from './raster/smooth.js';
 import type { ProgressEvent, TallyResult } from './result.js';
 import { findTreetops, type Treetops } from './trees/treetops.js';
-import { growCrowns } from './trees/crowns.js';
+import { autoReachM, growCrowns } from './trees/crowns.js';
 import { rejectNonTrees } from './trees/nontree.js';
 import { traceOutlines } from './trees/outlines.js';
 import { TreeMetricsAccumulator } from './trees/metrics.js';
 import { ProfileAccumulator, surveySummary } from './trees/summary.js';
-import { windowDiameterM } from './trees/window.js';
 import type { TreeTable } from './trees/table.js';
 import type { AreaOfInterest } from './worker/protocol.js';
 import { mergeReadouts } from './io/readout-merge.js';
@@ -144,7 +143,7 @@ export function geometryFor(r: Rect, cellSize: number): GridGeometry {
 
 /** Reach used by the crowns and the tile buffer: the option, or the window at the top's height. */
 function largestReachM(o: TallyOptions, maxHeightM: number): number {
-  return o.crownReachM === 'auto' ? windowDiameterM(o.window, maxHeightM) : o.crownReachM;
+  return o.crownReachM === 'auto' ? autoReachM(o.window, maxHeightM) : o.crownReachM;
 }
 
 /** Runs the whole job over one area (all inputs together, as one survey). */
@@ -250,7 +249,16 @@ export async function tallyClouds(clouds: PointCloud[], options: TallyOptions, r
     minHeightM: options.minHeightM, floorFraction: options.crownFloorFraction,
     reachM: options.crownReachM, window: options.window, unitM,
   });
-  const nt = rejectNonTrees(labels, tops, { dsm: s.dsm, chm, pointCount: s.count, buildingCount: s.buildingCount, unitM, hasBuildingClass: s.hasBuildingClass });
+  // Pulses that came back as one return: roofs, decks and roads do that, foliage rarely does.
+  // Only meaningful where the survey records multiple returns at all.
+  const multi = s.multiReturnCounts.data;
+  let anyMulti = false;
+  for (let k = 0; k < multi.length && !anyMulti; k++) anyMulti = multi[k]! > 0;
+  const singles = anyMulti ? { ...s.geometry, data: Uint32Array.from(s.count.data, (v, k) => v - multi[k]!) } : undefined;
+  const nt = rejectNonTrees(labels, tops, {
+    dsm: s.dsm, chm, pointCount: s.count, buildingCount: s.buildingCount, unitM, hasBuildingClass: s.hasBuildingClass,
+    ...(singles ? { singleReturnCount: singles } : {}),
+  });
   labels = nt.labels; tops = nt.tops;
   if (nt.removed > 0) warnings.push(`${nt.removed} candidate crowns were roofs or other flat surfaces and were left out`);
   if (run.keep) ({ labels, tops } = keepTopsIn(labels, tops, run.keep));

@@ -9,12 +9,26 @@ export interface CrownOptions {
   minHeightM: number;
   /** A cell joins a crown only while its height is above floorFraction x the crown's top height (0-1; 0 = no floor). */
   floorFraction: number;
-  /** Largest distance (m) from the top; 'auto' = window diameter at the top's height; Infinity = no limit. */
+  /** Largest distance (m) from the top; 'auto' = autoReachM at the top's height; Infinity = no limit. */
   reachM: number | 'auto';
   /** Needed for reachM 'auto'. */
   window?: WindowPreset | WindowTable | number;
   /** CRS unit to metres. Default 1. */
   unitM?: number;
+}
+
+/**
+ * The 'auto' reach: the window diameter at a top's height is a published
+ * crown width of forest-grown trees (Popescu & Wynne 2004); open-grown park
+ * and street trees spread wider, so a crown may reach 1.5 window diameters
+ * from its top (a radius of 0.75 crown widths), and never less than 3 m.
+ */
+export function reachFromWindow(windowM: number): number {
+  return Math.max(3, 1.5 * windowM);
+}
+
+export function autoReachM(window: WindowPreset | WindowTable | number, heightM: number): number {
+  return reachFromWindow(windowFunction(window)(heightM));
 }
 
 /** Height quantum of the flooding queue (m). */
@@ -62,7 +76,7 @@ export function growCrowns(chm: Grid, tops: Treetops, opts: CrownOptions): Grid<
   const win = opts.reachM === 'auto' ? windowFunction(opts.window ?? 'combined') : null;
   for (let k = 0; k < n; k++) {
     floorH[k] = opts.floorFraction * tops.heightM[k]!;
-    const rM = win ? win(tops.heightM[k]!) : (opts.reachM as number);
+    const rM = win ? reachFromWindow(win(tops.heightM[k]!)) : (opts.reachM as number);
     const rc = rM / cellM;
     reach2[k] = rc * rc;
   }
