@@ -32,7 +32,7 @@ const HELP = `crowntally ${VERSION}: trees from a lidar survey (LAS, LAZ or XYZ 
 usage:
   crowntally inspect FILE [--json] [--crs EPSG:NNNN]
   crowntally tally FILE [FILE...] --out DIR [options]
-  crowntally demo [--scene park|orchard] [--out DIR] [options]
+  crowntally demo [--scene park|orchard|canopy] [--out DIR] [options]
 
 tally options (lengths in metres):
   --cell-size M         CHM cell edge (default: from point density)
@@ -115,7 +115,7 @@ async function runTally(files: string[] | 'demo', p: ParsedArgs, dir: string): P
   process.once('SIGINT', onSig);
   try {
     const sources = files === 'demo'
-      ? [bufferSource(await demoBytes((p.values.get('scene') ?? 'park') as 'park' | 'orchard'), 'demo.las')]
+      ? [bufferSource(await demoBytes((p.values.get('scene') ?? 'park') as 'park' | 'orchard' | 'canopy'), 'demo.las')]
       : await Promise.all(files.map((f) => fileSource(f)));
     const result = await withPool(workers, async (extra) => {
       const run = { options, ...(crs ? { crs } : {}), requireCrs: !localOnly, signal: ctrl.signal, onProgress: bar.update, ...extra };
@@ -177,7 +177,7 @@ export async function main(argv: string[]): Promise<number> {
     if (cmd === 'demo') {
       const dir = p.values.get('out') ?? 'demo-output';
       const scene = p.values.get('scene') ?? 'park';
-      if (scene !== 'park' && scene !== 'orchard') throw new CrowntallyError('BAD_OPTIONS', `--scene must be park or orchard (got "${scene}")`);
+      if (scene !== 'park' && scene !== 'orchard' && scene !== 'canopy') throw new CrowntallyError('BAD_OPTIONS', `--scene must be park, orchard or canopy (got "${scene}")`);
       await mkdir(dir, { recursive: true });
       const las = await demoBytes(scene);
       await writeFile(join(dir, `demo-${scene}.las`), las);

@@ -19,7 +19,7 @@ export type AreaOfInterest =
   | { kind: 'polygon'; rings: number[][][] };
 
 /** A built-in invented scenario, generated inside the worker instead of files. */
-export type DemoKind = 'park' | 'orchard';
+export type DemoKind = 'park' | 'orchard' | 'canopy';
 
 export interface InspectRequest { type: 'inspect'; id: number; files: SurveyInput[]; names: string[]; crs?: string; demo?: DemoKind }
 export interface TallyRequest {

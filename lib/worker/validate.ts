@@ -31,7 +31,7 @@ export function validateRequest(m: unknown): WorkerRequest {
     case 'inspect':
     case 'tally':
     case 'remeasure': {
-      if (m.demo !== undefined && m.demo !== 'park' && m.demo !== 'orchard') bad('demo must be park or orchard');
+      if (m.demo !== undefined && m.demo !== 'park' && m.demo !== 'orchard' && m.demo !== 'canopy') bad('demo must be park, orchard or canopy');
       if (!Array.isArray(m.files) || !m.files.every(isInput)) bad('files must be a list of Blobs, ArrayBuffers or paths');
       if (!Array.isArray(m.names) || !m.names.every((n) => typeof n === 'string')) bad('names must be a list of strings');
       if (m.files.length === 0 && !m.demo) bad('no files and no demo');
