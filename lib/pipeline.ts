@@ -268,7 +268,8 @@ export async function tallyClouds(clouds: PointCloud[], options: TallyOptions, r
 
   // Pass 2: each point to its crown.
   progress.report('metrics', 0);
-  const hasReturns = readout.returns['0'] !== readout.points;
+  // A photogrammetric cloud records every point as 1 of 1: its return statistics mean nothing, so they are absent.
+  const hasReturns = (readout.returns['0'] ?? 0) !== readout.points && !readout.looksPhotogrammetric;
   const metrics = new TreeMetricsAccumulator(labels, dtm, tops, { profileLayerM: options.profileLayerM, verticalUnitM: vu, unitM, hasReturns, hasRgb: readout.hasRgb, chm });
   const profile = new ProfileAccumulator(dtm, { layerM: options.profileLayerM, verticalUnitM: vu });
   let done = 0;
