@@ -127,6 +127,30 @@ export function applyColourScale(c: PointChunk, s: number): void {
   }
 }
 
+/**
+ * Throws BAD_HEADER when a point of `c` lies outside the header bounds by
+ * more than a few scale steps (NaN fails too). The grids are laid over the
+ * header bounds, so a point outside them would silently drop out of the
+ * tally; a damaged scale, offset or record is refused instead.
+ */
+export function checkLasBounds(c: PointChunk, header: LasHeader, label: string, first: number): void {
+  const b = header.bounds;
+  const tx = 4 * Math.abs(header.scale[0]) + 1e-9 * Math.max(Math.abs(b.minX), Math.abs(b.maxX));
+  const ty = 4 * Math.abs(header.scale[1]) + 1e-9 * Math.max(Math.abs(b.minY), Math.abs(b.maxY));
+  const tz = 4 * Math.abs(header.scale[2]) + 1e-9 * Math.max(Math.abs(b.minZ), Math.abs(b.maxZ));
+  const lx = b.minX - tx, hx = b.maxX + tx, ly = b.minY - ty, hy = b.maxY + ty, lz = b.minZ - tz, hz = b.maxZ + tz;
+  const { x, y, z } = c;
+  for (let i = 0; i < c.count; i++) {
+    const xi = x[i]!, yi = y[i]!, zi = z[i]!;
+    if (!(xi >= lx && xi <= hx && yi >= ly && yi <= hy && zi >= lz && zi <= hz)) {
+      throw new CrowntallyError('BAD_HEADER',
+        `${label}: point ${first + i + 1} lies at (${xi}, ${yi}, ${zi}), outside the header's bounds ` +
+        `(x ${b.minX} to ${b.maxX}, y ${b.minY} to ${b.maxY}, z ${b.minZ} to ${b.maxZ}); the header or the point records are damaged, ` +
+        'rewrite the file with a LAS tool that recomputes the bounds', { point: first + i });
+    }
+  }
+}
+
 /** Streams the points of an uncompressed LAS file in chunks, reading one range per chunk. */
 export async function* lasChunks(source: ByteSource, header: LasHeader, opts: ReadOptions = {}): AsyncGenerator<PointChunk> {
   const { pointCount: total, pointRecordLength: len, pointFormat: fmt } = header;
@@ -143,6 +167,7 @@ export async function* lasChunks(source: ByteSource, header: LasHeader, opts: Re
     const bytes = await readExact(source, header.offsetToPointData + done * len, n * len, 'point records');
     const chunk = allocChunk(n, fmt);
     decodeRecords(bytes, 0, n, fmt, len, header, chunk);
+    checkLasBounds(chunk, header, source.name, done);
     if (scale === 0) scale = colourScaleFor(chunk);
     applyColourScale(chunk, scale);
     done += n;

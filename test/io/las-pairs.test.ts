@@ -166,6 +166,8 @@ describe('header and record layout (ASPRS LAS 1.4 R15)', () => {
     file.set(b.subarray(0, 375));
     const fdv = new DataView(file.buffer);
     fdv.setFloat64(179, 1e9, true); fdv.setFloat64(187, -1e9, true);
+    // Bounds that hold the records' (0, 0, 0): the reader refuses points outside the header bounds.
+    fdv.setFloat64(195, 1e9, true); fdv.setFloat64(203, -1e9, true); fdv.setFloat64(211, 1e9, true); fdv.setFloat64(219, -1e9, true);
     file[375 + 14] = 0x21; file[375 + 30 + 14] = 0x22;
     const pc = await openPointCloud(bufferSource(file, 'f6.las'));
     expect(pc.header.pointCount).toBe(2);
