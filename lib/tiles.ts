@@ -142,7 +142,8 @@ function mergeTiles(parts: TallyResult[], keeps: Rect[], g: { width: number; hei
   const profileCounts: number[] = [];
   for (const p of parts) p.summary.profile.counts.forEach((v, i) => { profileCounts[i] = (profileCounts[i] ?? 0) + v; });
   const summary = surveySummary(trees, chm, { minHeightM: options.minHeightM, unitM }, { layerM: parts[0]!.summary.profile.layerM, counts: profileCounts.map((v) => v ?? 0) });
-  const warnings = [...new Set(parts.flatMap((p) => p.warnings))];
+  // A tile without trees says so in its own warnings; the merged survey only when it has none at all.
+  const warnings = [...new Set(parts.flatMap((p) => p.warnings))].filter((w) => n === 0 || !w.startsWith('no trees of at least'));
   warnings.push(`processed in ${parts.length} tiles`);
   return { ...parts[0]!, options, chm, dtm, labels, trees, summary, warnings };
 }
