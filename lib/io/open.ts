@@ -8,6 +8,7 @@ import { findLazVlr, hasLasSignature, readLasHeader } from './las-header.js';
 import { lasChunks } from './las-points.js';
 import { LazPerfHandle, lazChunks, lazPerfProvider, type LazPerfProvider } from './laz.js';
 import { crsFromVlrs } from './crs.js';
+import { checkLazSupported, parseLazVlr } from './laz-chunk-table.js';
 import { openXyz } from './xyz.js';
 
 export type { LazPerfProvider } from './laz.js';
@@ -33,6 +34,17 @@ export async function openPointCloud(source: ByteSource, opts: OpenOptions = {})
   const compressed = header.compressed || hasLazVlr || kind === 'laz';
   if (compressed && !hasLazVlr) {
     throw new CrowntallyError('BAD_HEADER', `${source.name}: marked as compressed but has no LAZ description record (user "laszip encoded", 22204)`);
+  }
+  // Refuse a LAZ layout the decoder cannot handle now, not after the caller starts streaming.
+  if (compressed) {
+    const info = parseLazVlr(findLazVlr(vlrs)!, source.name);
+    checkLazSupported(info, source.name);
+    // The compressed items make up the record: their sizes add up to the record length.
+    const itemBytes = info.items.reduce((s, it) => s + it.size, 0);
+    if (itemBytes !== header.pointRecordLength) {
+      throw new CrowntallyError('BAD_HEADER',
+        `${source.name}: the header's record length ${header.pointRecordLength} disagrees with the ${itemBytes} bytes of the LAZ description record's items; the header is damaged`);
+    }
   }
   if (kind === 'las' && compressed) {
     throw new CrowntallyError('BAD_HEADER', `${source.name} is compressed (LAZ) but was opened as uncompressed LAS`);
