@@ -39,6 +39,12 @@ export async function openPointCloud(source: ByteSource, opts: OpenOptions = {})
   if (compressed) {
     const info = parseLazVlr(findLazVlr(vlrs)!, source.name);
     checkLazSupported(info, source.name);
+    // The first item is the core point record: type 6 (point10) for formats 0-5, type 10 (point14) for 6-10.
+    const core = header.pointFormat < 6 ? 6 : 10;
+    if (info.items[0]?.type !== core) {
+      throw new CrowntallyError('BAD_HEADER',
+        `${source.name}: point format ${header.pointFormat} disagrees with the LAZ description record (its first item is type ${info.items[0]?.type ?? 'none'}, not ${core}); the header is damaged`);
+    }
     // The compressed items make up the record: their sizes add up to the record length.
     const itemBytes = info.items.reduce((s, it) => s + it.size, 0);
     if (itemBytes !== header.pointRecordLength) {
