@@ -17,7 +17,7 @@ import { numberArg, parseArgs, type ParsedArgs } from './args.js';
 import { demoBytes } from './environment.js';
 import { fileSource } from './file-source.js';
 import { inspectFiles, withPool } from './index.js';
-import { writeOutputs } from './outputs.js';
+import { LOCAL_ONLY_WARNING, writeOutputs } from './outputs.js';
 import { progressBar } from './progress.js';
 import { nodeParallelism } from './worker-adapter.js';
 
@@ -94,11 +94,12 @@ function checkCrsArg(p: ParsedArgs): string | undefined {
 
 function say(s: string): void { process.stderr.write(s + '\n'); }
 
-function report(r: TallyResult, dir: string): void {
+function report(r: TallyResult, dir: string, localOnly: boolean): void {
   const s = r.summary;
   say(`${s.treeCount} trees (${s.treesPerHa.toFixed(1)} per ha, canopy cover ${(s.canopyCover * 100).toFixed(1)}%, ` +
     `tallest ${Number.isFinite(s.maxHeightM) ? s.maxHeightM.toFixed(1) : '-'} m), cell ${r.options.cellSizeM} m; written to ${dir}`);
   for (const w of r.warnings) say(`warning: ${w}`);
+  if (localOnly) say(`warning: ${LOCAL_ONLY_WARNING}`);
   say(`note: ${CAUTION}`);
 }
 
@@ -124,7 +125,7 @@ async function runTally(files: string[] | 'demo', p: ParsedArgs, dir: string): P
     bar.done();
     if (!localOnly) makeLonLatTransform(result.crs); // fail before writing anything when the CRS cannot be used
     await writeOutputs(dir, result, { localOnly, version: VERSION });
-    report(result, dir);
+    report(result, dir, localOnly);
     return 0;
   } finally {
     bar.done();

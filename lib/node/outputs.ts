@@ -4,6 +4,9 @@ import { makeLonLatTransform } from '../crs/transform.js';
 import { buildSummaryJson, CAUTION, chmToGeoTIFF, treesToCSV, treesToGeoJSON, type OutputRecord } from '../export/index.js';
 import type { TallyResult } from '../result.js';
 
+/** Said in summary.json and on the terminal when a run writes local outputs only. */
+export const LOCAL_ONLY_WARNING = 'local outputs only: trees.csv has x/y in the survey CRS and no lon/lat; no GeoJSON was written';
+
 export interface WriteOutputs {
   /** Write x/y only: no lon/lat, no GeoJSON (surveys whose CRS is unknown). */
   localOnly: boolean;
@@ -23,7 +26,7 @@ export async function writeOutputs(dir: string, r: TallyResult, o: WriteOutputs)
   if (toLonLat) await put('trees.geojson', 'trees GeoJSON', treesToGeoJSON(r.trees, toLonLat));
   await put('chm.tif', 'CHM GeoTIFF (metres)', new Uint8Array(chmToGeoTIFF(r.chm, r.crs)));
   const warnings = [...r.warnings];
-  if (o.localOnly) warnings.push('local outputs only: trees.csv has x/y in the survey CRS and no lon/lat; no GeoJSON was written');
+  if (o.localOnly) warnings.push(LOCAL_ONLY_WARNING);
   const summary = buildSummaryJson({
     readout: r.readout, summary: r.summary, options: r.options, warnings,
     software: { name: 'crowntally', version: o.version },
