@@ -241,9 +241,10 @@ export async function openXyz(source: ByteSource, opts: { crs?: CrsInfo } = {}):
           case 'returnNumber': c.returnNumber[i] = clamp(val, 15); break;
           case 'numberOfReturns': c.numberOfReturns[i] = clamp(val, 15); break;
           case 'classification': c.classification[i] = clamp(val, 255); break;
-          case 'red': c.red![i] = clamp(val * colourScale, 65535); break;
-          case 'green': c.green![i] = clamp(val * colourScale, 65535); break;
-          case 'blue': c.blue![i] = clamp(val * colourScale, 65535); break;
+          // Colour is kept only when all three channels are present (newChunk allocates them together).
+          case 'red': if (c.red) c.red[i] = clamp(val * colourScale, 65535); break;
+          case 'green': if (c.green) c.green[i] = clamp(val * colourScale, 65535); break;
+          case 'blue': if (c.blue) c.blue[i] = clamp(val * colourScale, 65535); break;
           default: break;
         }
       }
