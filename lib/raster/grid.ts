@@ -31,7 +31,11 @@ export function checkGridSize(widthCRS: number, heightCRS: number, cellSize: num
   const w = Math.ceil(widthCRS / cellSize) + 1;
   const h = Math.ceil(heightCRS / cellSize) + 1;
   if (!Number.isFinite(w * h) || w * h > maxCells) {
-    const fit = Math.sqrt((widthCRS * heightCRS) / maxCells) * 1.01;
+    // Least edge c with (W/c + 2)(H/c + 2) <= maxCells: ceil() and an outward-snapped origin add up to
+    // two cells per axis. Solved as (M - 4)c^2 - 2(W + H)c - WH >= 0, then rounded up to whole centimetres.
+    const W = Math.max(0, widthCRS), H = Math.max(0, heightCRS), m = Math.max(1, maxCells - 4);
+    const c = ((W + H) + Math.sqrt((W + H) * (W + H) + m * W * H)) / m;
+    const fit = Math.ceil(c * unitM * 100 * 1.001) / 100 / unitM;
     throw new CrowntallyError(
       'TOO_LARGE',
       `the survey area needs a ${w} x ${h} grid at this cell size, more than the ${maxCells} cells the memory budget allows; ` +
