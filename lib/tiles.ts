@@ -143,7 +143,31 @@ function mergeTiles(parts: TallyResult[], keeps: Rect[], g: { width: number; hei
   for (const p of parts) p.summary.profile.counts.forEach((v, i) => { profileCounts[i] = (profileCounts[i] ?? 0) + v; });
   const summary = surveySummary(trees, chm, { minHeightM: options.minHeightM, unitM }, { layerM: parts[0]!.summary.profile.layerM, counts: profileCounts.map((v) => v ?? 0) });
   // A tile without trees says so in its own warnings; the merged survey only when it has none at all.
-  const warnings = [...new Set(parts.flatMap((p) => p.warnings))].filter((w) => n === 0 || !w.startsWith('no trees of at least'));
+  const warnings = tileWarnings(parts.map((p) => p.warnings)).filter((w) => n === 0 || !w.startsWith('no trees of at least'));
   warnings.push(`processed in ${parts.length} tiles`);
   return { ...parts[0]!, options, chm, dtm, labels, trees, summary, warnings };
+}
+
+/**
+ * The tiles' warnings, each once. A warning that starts with a count ("12 candidate crowns were ...")
+ * is said once with the count of every tile that had it: tiles read overlapping buffers, so the
+ * counts cannot simply be added, and one line per tile would read as contradictory totals.
+ */
+function tileWarnings(perTile: string[][]): string[] {
+  const out: string[] = [];
+  const counted = new Map<string, number[]>();
+  for (const list of perTile) {
+    for (const w of list) {
+      const m = /^(\d+) (.*)$/s.exec(w);
+      if (!m) { if (!out.includes(w)) out.push(w); continue; }
+      const rest = m[2]!;
+      if (!counted.has(rest)) { counted.set(rest, []); out.push(rest); }
+      counted.get(rest)!.push(Number(m[1]));
+    }
+  }
+  return out.map((w) => {
+    const c = counted.get(w);
+    if (!c) return w;
+    return c.length === 1 ? `${c[0]} ${w}` : `${w} (by tile, overlaps counted in each tile: ${c.join(', ')})`;
+  });
 }
