@@ -7,13 +7,18 @@
  * a window, so every tile sees the same CHM cells around the trees it keeps;
  * the tolerance only allows for float rounding, not for a different answer.
  */
+import path from 'node:path';
+import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
 import { generateSurvey } from '../../demo/index.js';
 import { bufferSource } from '../../lib/io/sources.js';
+import { fileSource } from '../../lib/node/file-source.js';
+import { nodeLazPerf } from '../../lib/node/laz-perf.js';
 import { tally } from '../../lib/pipeline.js';
 import type { TallyResult } from '../../lib/result.js';
 import { tallyTiled } from '../../lib/tiles.js';
 
+const here = path.dirname(fileURLToPath(import.meta.url));
 const SIZE = { widthM: 120, heightM: 100 };
 const TILE_M = 65; // 245 x 200 cells of 0.5 m -> 2 x 2 tiles
 
@@ -99,6 +104,25 @@ describe('tallyTiled', () => {
     expect(tiled.warnings).toContain('processed in 6 tiles');
     expect(tiled.trees.count).toBe(whole.trees.count);
     expect(tiled.warnings.some((w) => w.startsWith('no trees of at least'))).toBe(false);
+    // Each kind of warning once, not one line per tile with different counts.
+    const kinds = tiled.warnings.map((w) => w.replace(/^\d+ /, ''));
+    expect(new Set(kinds).size).toBe(kinds.length);
+  });
+
+  it('autzen_trim.laz (international feet) in 100 m tiles: the same table as whole, each warning once', async () => {
+    const file = path.resolve(here, '../../../shared/fixtures/laz-pairs/autzen_trim.laz');
+    const run = { options: { cellSizeM: 2 }, lazPerf: nodeLazPerf() };
+    const whole = await tally([await fileSource(file)], run);
+    const tiled = await tallyTiled([await fileSource(file)], run, 100);
+    expect(tiled.warnings.find((w) => /^processed in \d+ tiles$/.test(w))).not.toBe('processed in 1 tiles');
+    expect(tiled.trees.count).toBe(whole.trees.count);
+    // Tops agree to float rounding of the tile grid origins (1e-6 ft), heights and areas within 1 cm / 0.01 m2.
+    const tol = { x: 1e-6, y: 1e-6, height_m: 0.01, crown_area_m2: 0.01, point_count: 0 } as const;
+    for (const [c, t] of Object.entries(tol) as Array<[keyof typeof tol, number]>) {
+      for (let i = 0; i < whole.trees.count; i++) expect(Math.abs(tiled.trees.columns[c][i]! - whole.trees.columns[c][i]!), `${c} of tree ${i + 1}`).toBeLessThanOrEqual(t);
+    }
+    const kinds = tiled.warnings.map((w) => w.replace(/^\d+ /, ''));
+    expect(new Set(kinds).size).toBe(kinds.length);
   });
 
   it('refuses a tile smaller than 10 m with a typed error', async () => {
