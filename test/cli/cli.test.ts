@@ -320,6 +320,25 @@ describe('crowntally tally on autzen_trim.laz', () => {
   });
 });
 
+describe('crowntally tally --workers and --tile', () => {
+  it('two decoding threads, or 100 m tiles, write the trees.csv of a single-thread whole run', () => {
+    const base = path.join(work, 'autzen-base');
+    expect(cli('tally', AUTZEN_LAZ, '--out', base, '--cell-size', '2', '--workers', '1').code).toBe(0);
+    const pooled = path.join(work, 'autzen-pool');
+    const p = cli('tally', AUTZEN_LAZ, '--out', pooled, '--cell-size', '2', '--workers', '2');
+    expect(p.code, p.stderr).toBe(0);
+    expect(readFileSync(path.join(pooled, 'trees.csv')).equals(readFileSync(path.join(base, 'trees.csv')))).toBe(true);
+    const tiled = path.join(work, 'autzen-tiles');
+    const t = cli('tally', AUTZEN_LAZ, '--out', tiled, '--cell-size', '2', '--workers', '1', '--tile', '100');
+    expect(t.code, t.stderr).toBe(0);
+    expect(t.stderr).toMatch(/processed in \d+ tiles/);
+    // Positions are written to 1/1000 ft, so the tiles' float rounding (1e-10 ft) does not show.
+    expect(readFileSync(path.join(tiled, 'trees.csv'), 'utf8')).toBe(readFileSync(path.join(base, 'trees.csv'), 'utf8'));
+    expectBadInput(cli('tally', AUTZEN_LAZ, '--out', tiled, '--tile', '5'));
+    expectBadInput(cli('tally', AUTZEN_LAZ, '--out', tiled, '--workers', '1.5'));
+  });
+});
+
 describe('the caution', () => {
   it('appears in --help, on stderr after a tally, and in summary.json', () => {
     const help = cli('--help');
