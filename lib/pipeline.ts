@@ -160,11 +160,15 @@ export async function tally(inputs: ByteSource[], run: TallyRun = {}): Promise<T
 export async function tallyClouds(clouds: PointCloud[], options: TallyOptions, run: TallyRun): Promise<TallyResult> {
   const crs: CrsInfo = clouds[0]!.crs;
   if (run.requireCrs && !crs.proj4) {
-    throw new CrowntallyError('CRS_UNKNOWN', `the CRS of ${clouds[0]!.name} is unknown, so trees cannot be placed on the globe; give it with --crs EPSG:NNNN, or ask for local outputs only (--local-only)`);
+    throw new CrowntallyError(crs.epsg !== null ? 'CRS_UNSUPPORTED' : 'CRS_UNKNOWN', `the CRS of ${clouds[0]!.name} is unknown, so trees cannot be placed on the globe; give it with --crs EPSG:NNNN, or ask for local outputs only (--local-only)`);
   }
   const unitM = crs.unitM;
   const vu = crs.verticalUnitM;
   const warnings: string[] = [];
+  // A code the carried definitions do not know: its unit is a guess, so say so in the result.
+  if (!crs.proj4 && crs.epsg !== null) {
+    warnings.push(`EPSG:${crs.epsg} is not among the carried CRS definitions: lengths and heights were taken as metres and trees cannot be placed on a map; give a carried EPSG code if the unit is not the metre`);
+  }
 
   let area: Rect | null = unionBounds(clouds);
   const polygon = run.aoi?.kind === 'polygon' ? run.aoi.rings : undefined;
