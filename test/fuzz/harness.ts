@@ -51,7 +51,7 @@ export function fastLazPerf(): LazPerfProvider {
       },
     });
     for (const ev of ['unhandledRejection', 'uncaughtException'] as const) {
-      for (const l of process.listeners(ev)) if (!before.has(l)) process.removeListener(ev, l as (...a: unknown[]) => void);
+      for (const l of process.listeners(ev)) if (!before.has(l)) (process.removeListener as (e: string, f: unknown) => unknown).call(process, ev, l);
     }
     return lp;
   };
@@ -138,7 +138,8 @@ export async function runCase(bytes: Uint8Array, label: string, lazPerf: LazPerf
   let peak = base;
   const sample = () => { const m = process.memoryUsage().arrayBuffers; if (m > peak) peak = m; };
   const started = Date.now();
-  let phase: 'open' | 'stream' = 'open';
+  // Set inside the guarded closure, so widen it for the compiler.
+  let phase = 'open' as 'open' | 'stream';
   let points = 0;
   const finish = (outcome: CaseOutcome['outcome'], message?: string): CaseOutcome => {
     sample();
