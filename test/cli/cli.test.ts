@@ -144,6 +144,13 @@ describe('crowntally inspect', () => {
     expect(o.qualityLevel).toBe('QL2 by density');
   });
 
+  it('--json on the LAS twin gives the read-out of the LAZ file (same points, fixture NOTICE.md)', () => {
+    const laz = JSON.parse(cli('inspect', AUTZEN_LAZ, '--json').stdout);
+    const las = JSON.parse(cli('inspect', AUTZEN_LAS, '--json').stdout);
+    expect(las.kind).toBe('las');
+    expect({ ...las, name: 0, kind: 0 }).toEqual({ ...laz, name: 0, kind: 0 });
+  });
+
   it('plain text output names the CRS unit and the level', () => {
     const r = cli('inspect', AUTZEN_LAZ);
     expect(r.code).toBe(0);
@@ -336,6 +343,30 @@ describe('crowntally tally --workers and --tile', () => {
     expect(readFileSync(path.join(tiled, 'trees.csv'), 'utf8')).toBe(readFileSync(path.join(base, 'trees.csv'), 'utf8'));
     expectBadInput(cli('tally', AUTZEN_LAZ, '--out', tiled, '--tile', '5'));
     expectBadInput(cli('tally', AUTZEN_LAZ, '--out', tiled, '--workers', '1.5'));
+  });
+});
+
+describe('crowntally demo', () => {
+  it('writes the invented park survey and its four outputs, the same bytes each time', () => {
+    const a = path.join(work, 'demo-a'), b = path.join(work, 'demo-b');
+    const r = cli('demo', '--out', a, '--workers', '1');
+    expect(r.code, r.stderr).toBe(0);
+    expect(cli('demo', '--out', b, '--workers', '1').code).toBe(0);
+    for (const f of ['demo-park.las', 'trees.csv', 'trees.geojson', 'chm.tif', 'summary.json']) {
+      expect(readFileSync(path.join(a, f)).equals(readFileSync(path.join(b, f))), f).toBe(true);
+    }
+    const fc = check(readFileSync(path.join(a, 'trees.geojson'), 'utf8')) as GeoJSON.FeatureCollection; // RFC 7946 via @placemarkio/check-geojson
+    expect(fc.features.length).toBeGreaterThan(10);
+    const s = JSON.parse(readFileSync(path.join(a, 'summary.json'), 'utf8'));
+    expect(s.survey.crs.epsg).toBe(32633);
+    expect(s.summary.treeCount).toBe(fc.features.length);
+    // The demo file is LAS 1.4 point format 7 (ASPRS LAS 1.4 R15: version bytes 24-25, format byte 104).
+    const las = readFileSync(path.join(a, 'demo-park.las'));
+    expect([las.toString('latin1', 0, 4), las[24], las[25], las[104]]).toEqual(['LASF', 1, 4, 7]);
+    const inspect = JSON.parse(cli('inspect', path.join(a, 'demo-park.las'), '--json').stdout);
+    expect(inspect.version).toBe('1.4');
+    expect(inspect.pointFormat).toBe(7);
+    expectBadInput(cli('demo', '--out', a, '--scene', 'forest'));
   });
 });
 
