@@ -49,6 +49,8 @@ export default defineConfig({
         // Everything the job needs offline: scripts, workers, the LAZ decoder's .wasm, styles, icons.
         globPatterns: ['**/*.{js,mjs,css,html,wasm,svg,png,webmanifest,json}'],
         maximumFileSizeToCacheInBytes: 32 * 1024 * 1024,
+        // The worker starts its LAZ decode helpers from its own URL plus ?pool=1: serve them from the precache too.
+        ignoreURLParametersMatching: [/^pool$/, /^utm_/],
         cleanupOutdatedCaches: true,
         navigateFallback: 'index.html',
         clientsClaim: false,

@@ -37,9 +37,9 @@ export function button(label: string, onClick: (ev: MouseEvent) => void, cls = '
 }
 
 /** Formats a number for display; NaN shows as an en dash (metric absent for this survey). */
-export function fmt(v: number, decimals = 1): string {
+export function fmt(v: number, decimals = 1, grouping = true): string {
   if (!Number.isFinite(v)) return '\u2013';
-  return v.toLocaleString(undefined, { minimumFractionDigits: decimals, maximumFractionDigits: decimals });
+  return v.toLocaleString(undefined, { minimumFractionDigits: decimals, maximumFractionDigits: decimals, useGrouping: grouping });
 }
 
 export function bytes(n: number): string {

@@ -38,9 +38,8 @@ export interface Reattached {
  * Puts edits back on the trees of a new run: each edit goes to the nearest
  * treetop within `toleranceM` of its anchor, nearest pairs first, one edit
  * per tree. Edits with no tree close enough are returned as unplaced so the
- * user can see them; they are never dropped silently. Added trees are kept
- * only when the new run has no tree there (then they are unplaced: the user
- * adds them again or the new run found them).
+ * user can see them; they are never dropped silently. An added tree keeps
+ * its mark when it lands on a tree of the new run.
  */
 export function reattachEdits(trees: StoredTrees, edits: EditRecord[], toleranceCrs: number): Reattached {
   const xs = trees.columns.x;
@@ -77,9 +76,7 @@ export function reattachEdits(trees: StoredTrees, edits: EditRecord[], tolerance
     editDone[p.e] = 1;
     rowDone.add(p.row);
     const ed = edits[p.e]!;
-    const next: EditRecord = { ...ed, treeId: ids[p.row]!, x: xs[p.row]!, y: ys[p.row]! };
-    delete next.added;
-    placed.push(next);
+    placed.push({ ...ed, treeId: ids[p.row]!, x: xs[p.row]!, y: ys[p.row]! });
   }
   const unplaced = edits.filter((_, i) => !editDone[i]);
   return { placed, unplaced };

@@ -195,7 +195,7 @@ export async function openResults(main: HTMLElement, store: FieldStore, jobs: Jo
     const t = run.trees;
     const e = byRow.get(row);
     const state = e?.mergedInto ? 'merged into another tree' : e?.deleted ? 'deleted (not a tree)' : e?.added ? 'added by hand' : e ? 'edited' : 'as detected';
-    const facts = h('dl', { class: 'facts' }, ...TREE_COLUMNS.flatMap((c) => [h('dt', {}, COLUMN_LABEL[c]), h('dd', {}, fmt(t.columns[c][row]!, columnDecimals(c)))]));
+    const facts = h('dl', { class: 'facts' }, ...TREE_COLUMNS.flatMap((c) => [h('dt', {}, COLUMN_LABEL[c]), h('dd', {}, fmt(t.columns[c][row]!, columnDecimals(c), !(c === 'x' || c === 'y' || c === 'tree_id')))]));
 
     const species = h('input', { class: 'field', id: 'f-species', type: 'text', maxlength: '120', autocomplete: 'off', value: e?.species ?? '' });
     const condition = h('select', { class: 'field', id: 'f-condition' }, ...CONDITIONS.map((c) => h('option', { value: c }, c || '\u2014')));

@@ -106,7 +106,7 @@ export class TreeListView {
       ...TREE_COLUMNS.map((c) => {
         const s = this.state.sort;
         const arrow = s.column === c ? (s.descending ? ' \u25bc' : ' \u25b2') : '';
-        const b = h('button', { type: 'button', class: `tcell th${s.column === c ? ' sorted' : ''}`, role: 'columnheader', 'data-col': c,
+        const b = h('button', { type: 'button', class: `tcell th${c === 'x' || c === 'y' ? ' wide' : ''}${s.column === c ? ' sorted' : ''}`, role: 'columnheader', 'data-col': c,
           'aria-sort': s.column === c ? (s.descending ? 'descending' : 'ascending') : 'none' }, COLUMN_LABEL[c] + arrow);
         b.addEventListener('click', () => {
           if (s.column === c) s.descending = !s.descending; else { s.column = c; s.descending = c === 'height_m' || c === 'crown_area_m2'; }
@@ -167,7 +167,7 @@ export class TreeListView {
       const mark = e ? (e.deleted ? 'deleted' : 'edited') : '';
       const r = h('div', { class: `trow${i === this.selected ? ' selected' : ''}${mark ? ` ${mark}` : ''}`, role: 'row', 'data-row': i, 'aria-selected': i === this.selected ? 'true' : 'false' },
         h('span', { class: 'tcell mark', title: mark }, mark === 'deleted' ? '\u2715' : mark === 'edited' ? '\u25c6' : ''),
-        ...TREE_COLUMNS.map((c) => h('span', { class: 'tcell' }, fmt(t.columns[c][i]!, columnDecimals(c)))));
+        ...TREE_COLUMNS.map((c) => h('span', { class: c === 'x' || c === 'y' ? 'tcell wide' : 'tcell' }, fmt(t.columns[c][i]!, columnDecimals(c), !(c === 'x' || c === 'y' || c === 'tree_id')))));
       r.style.top = `${ROW_PX * (p + 1)}px`;
       r.addEventListener('click', () => this.onSelect(i));
       rows.push(r);

@@ -176,6 +176,38 @@ describe('field app in Chromium', () => {
     expect(parsed.meta.fields).toContain('height_m');
   });
 
+  it('opens a LAZ survey from a file, deletes a false tree and adds a missed one (measured again by the worker)', async () => {
+    // Fixture: shared/fixtures/laz-pairs/autzen_trim.laz (see NOTICE.md there); expected count from the library in Node.
+    const fixture = path.resolve(here, '../../../shared/fixtures/laz-pairs/autzen_trim.laz');
+    const { lazPerfProvider } = await import('../../lib/io/laz.js');
+    const buf = await readFile(fixture);
+    const expected = (await tally([bufferSource(new Uint8Array(buf), 'autzen_trim.laz')], { lazPerf: lazPerfProvider() })).trees.count;
+    await page.setViewportSize({ width: 1280, height: 900 });
+    await page.goto(`${origin}/#/`);
+    await page.locator('#file-input').setInputFiles(fixture);
+    await page.locator('.readout').first().waitFor({ timeout: 60_000 });
+    expect(await page.locator('.readout .fname').first().textContent()).toBe('autzen_trim.laz');
+    await shot('08-setup-file');
+    await page.locator('#start').click();
+    await page.locator('.trows .trow').first().waitFor({ timeout: 150_000 });
+    expect(await treeCountShown()).toBe(expected);
+    await page.locator('.trows .trow').first().click();
+    await page.locator('[data-action="delete"]').click();
+    await page.locator('[data-action="restore"]').waitFor();
+    expect(await page.locator('.trows .trow.deleted').count()).toBe(1);
+    await page.locator('[data-action="add-mode"]').click();
+    const box = (await page.locator('.map-canvas').boundingBox())!;
+    await page.mouse.click(box.x + box.width * 0.37, box.y + box.height * 0.61);
+    await expect.poll(() => treeCountShown(), { timeout: 90_000 }).toBe(expected + 1);
+    await expect.poll(() => page.locator('.tree-state').textContent()).toContain('added');
+    await shot('09-added');
+    const [gj] = await Promise.all([page.waitForEvent('download'), page.locator('[data-export="geojson"]').click()]);
+    const fc = checkGeoJSON(await readFile((await gj.path())!, 'utf8')) as { features: { properties: Record<string, unknown> }[] };
+    // One deleted, one added: the download has the detected count.
+    expect(fc.features.length).toBe(expected);
+    expect(fc.features.filter((f) => f.properties['added'] === true).length).toBe(1);
+  });
+
   it('shows well at tablet width and sent no request off its origin', async () => {
     await page.setViewportSize({ width: 768, height: 1024 });
     await page.waitForTimeout(300);
