@@ -99,6 +99,29 @@ function lasWkt(file: string): string {
   throw new Error('no WKT record in the fixture');
 }
 
+/**
+ * RFC 7946 section 3.1.6: rings closed, exteriors counter-clockwise and holes clockwise
+ * (sign of the shoelace sum in lon/lat). Returns how many rings and holes were checked.
+ */
+function checkWinding(fc: GeoJSON.FeatureCollection): { rings: number; holes: number } {
+  let rings = 0, holes = 0;
+  for (const f of fc.features) {
+    const g = f.geometry;
+    const polys = g.type === 'Polygon' ? [g.coordinates] : g.type === 'MultiPolygon' ? g.coordinates : [];
+    expect(polys.length).toBeGreaterThan(0);
+    for (const poly of polys) {
+      poly.forEach((ring, k) => {
+        expect(ring[0]).toEqual(ring[ring.length - 1]);
+        let s = 0;
+        for (let i = 0; i + 1 < ring.length; i++) s += (ring[i]![0]! - ring[0]![0]!) * (ring[i + 1]![1]! - ring[0]![1]!) - (ring[i + 1]![0]! - ring[0]![0]!) * (ring[i]![1]! - ring[0]![1]!);
+        if (k === 0) expect(s).toBeGreaterThan(0); else { expect(s).toBeLessThan(0); holes++; }
+        rings++;
+      });
+    }
+  }
+  return { rings, holes };
+}
+
 let work: string;
 beforeAll(() => {
   ensureBuilt();
@@ -209,21 +232,7 @@ describe('crowntally tally on autzen_trim.laz', () => {
     expect(fc.type).toBe('FeatureCollection');
     expect((fc as unknown as Record<string, unknown>).crs).toBeUndefined(); // RFC 7946 section 4: no crs member
     expect(fc.features).toHaveLength(lib.trees.count);
-    let rings = 0;
-    for (const f of fc.features) {
-      const polys = f.geometry.type === 'Polygon' ? [f.geometry.coordinates] : f.geometry.type === 'MultiPolygon' ? f.geometry.coordinates : [];
-      expect(polys.length).toBeGreaterThan(0);
-      for (const poly of polys) {
-        poly.forEach((ring, k) => {
-          // RFC 7946 section 3.1.6: closed rings, exterior counter-clockwise, holes clockwise (shoelace sign).
-          expect(ring[0]).toEqual(ring[ring.length - 1]);
-          let s = 0;
-          for (let i = 0; i + 1 < ring.length; i++) s += (ring[i]![0]! - ring[0]![0]!) * (ring[i + 1]![1]! - ring[0]![1]!) - (ring[i + 1]![0]! - ring[0]![0]!) * (ring[i]![1]! - ring[0]![1]!);
-          if (k === 0) expect(s).toBeGreaterThan(0); else expect(s).toBeLessThan(0);
-          rings++;
-        });
-      }
-    }
+    const { rings } = checkWinding(fc);
     expect(rings).toBeGreaterThanOrEqual(fc.features.length);
   });
 
@@ -357,6 +366,8 @@ describe('crowntally demo', () => {
     }
     const fc = check(readFileSync(path.join(a, 'trees.geojson'), 'utf8')) as GeoJSON.FeatureCollection; // RFC 7946 via @placemarkio/check-geojson
     expect(fc.features.length).toBeGreaterThan(10);
+    // The park (seed 1) has a crown with a hole: the clockwise branch of the winding rule is exercised here.
+    expect(checkWinding(fc).holes).toBeGreaterThan(0);
     const s = JSON.parse(readFileSync(path.join(a, 'summary.json'), 'utf8'));
     expect(s.survey.crs.epsg).toBe(32633);
     expect(s.summary.treeCount).toBe(fc.features.length);
