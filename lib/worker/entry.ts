@@ -91,7 +91,7 @@ export function createHandler(env: WorkerEnvironment): (data: unknown) => Promis
           break;
         }
         case 'remeasure': {
-          const trees = await remeasure(await sources(msg.files, msg.names), {
+          const trees = await remeasure(await sources(msg.files, msg.names, msg.demo), {
             ...(msg.options ? { options: msg.options } : {}), ...(msg.crs ? { crs: msg.crs } : {}),
             ...(env.lazPerf ? { lazPerf: env.lazPerf } : {}), signal: ctrl.signal,
             labels: msg.labels, chm: msg.chm, dtm: msg.dtm, tops: msg.tops,

@@ -32,6 +32,9 @@ export class WorkerPool {
   private readonly queue: Task[] = [];
   private nextId = 1;
   private closed = false;
+  /** Crashes since the last good reply: a worker that cannot even start must not be respawned forever. */
+  private crashesInARow = 0;
+  private broken: string | null = null;
 
   constructor(private readonly create: () => WorkerLike, readonly size: number) {
     if (!(Number.isInteger(size) && size >= 1 && size <= 256)) {
@@ -50,6 +53,7 @@ export class WorkerPool {
   /** Sends `message` (its `id` is set here) to a free worker; resolves with the reply. */
   run<R>(message: Record<string, unknown>, transfer: ArrayBuffer[] = []): Promise<R> {
     if (this.closed) return Promise.reject(new CrowntallyError('INTERNAL', 'the worker pool is closed'));
+    if (this.broken) return Promise.reject(new CrowntallyError('INTERNAL', this.broken));
     return new Promise<R>((resolve, reject) => {
       const id = this.nextId++;
       this.queue.push({ id, message: { ...message, id }, transfer, resolve, reject });
@@ -77,6 +81,7 @@ export class WorkerPool {
     if (!task || reply?.id !== task.id) return; // progress or stray messages are not pool replies
     if (reply.type === 'progress') return;
     slot.busy = null;
+    this.crashesInARow = 0;
     if (reply.type === 'error' && reply.error) task.reject(deserializeError(reply.error));
     else task.resolve(reply);
     this.pump();
@@ -86,9 +91,17 @@ export class WorkerPool {
     const task = slot.busy;
     slot.busy = null;
     try { void slot.worker.terminate(); } catch { /* already gone */ }
+    const err = new CrowntallyError('INTERNAL', `a worker stopped unexpectedly: ${message}`);
+    task?.reject(err);
     const i = this.slots.indexOf(slot);
+    if (++this.crashesInARow > 2 * this.size) {
+      // Workers that die as they start (a script that fails to load): stop and fail everything queued.
+      this.broken = `the decoding workers could not be started (${message}); reload the app, or process with one worker`;
+      for (const t of this.queue.splice(0)) t.reject(new CrowntallyError('INTERNAL', this.broken));
+      if (i >= 0) this.slots.splice(i, 1);
+      return;
+    }
     if (!this.closed && i >= 0) this.slots[i] = this.spawn();
-    task?.reject(new CrowntallyError('INTERNAL', `a worker stopped unexpectedly: ${message}`));
     this.pump();
   }
 
