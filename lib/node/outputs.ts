@@ -1,4 +1,4 @@
-import { mkdir, writeFile } from 'node:fs/promises';
+import { mkdir, rm, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { makeLonLatTransform } from '../crs/transform.js';
 import { buildSummaryJson, CAUTION, chmToGeoTIFF, treesToCSV, treesToGeoJSON, type OutputRecord } from '../export/index.js';
@@ -24,6 +24,8 @@ export async function writeOutputs(dir: string, r: TallyResult, o: WriteOutputs)
   const toLonLat = o.localOnly ? null : makeLonLatTransform(r.crs).toLonLat;
   await put('trees.csv', 'trees CSV', treesToCSV(r.trees, toLonLat));
   if (toLonLat) await put('trees.geojson', 'trees GeoJSON', treesToGeoJSON(r.trees, toLonLat));
+  // A trees.geojson left by an earlier run in this folder would pass for this run's crowns.
+  else await rm(join(dir, 'trees.geojson'), { force: true });
   await put('chm.tif', 'CHM GeoTIFF (metres)', new Uint8Array(chmToGeoTIFF(r.chm, r.crs)));
   const warnings = [...r.warnings];
   if (o.localOnly) warnings.push(LOCAL_ONLY_WARNING);
