@@ -5,7 +5,7 @@
  * no CRS record and as an x y z text cloud.
  */
 import { spawnSync } from 'node:child_process';
-import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -65,6 +65,9 @@ describe('a survey with no CRS', () => {
 
   it('--local-only writes trees.csv with x/y and no lon/lat, no trees.geojson, and says so', () => {
     const dir = path.join(work, 'local');
+    // A trees.geojson of an earlier run in the same folder must not survive as if it were this run's.
+    mkdirSync(dir, { recursive: true });
+    writeFileSync(path.join(dir, 'trees.geojson'), '{"type":"FeatureCollection","features":[]}');
     const r = cli('tally', las, '--out', dir, '--workers', '1', '--local-only');
     expect(r.code, r.stderr).toBe(0);
     expect(existsSync(path.join(dir, 'trees.geojson'))).toBe(false);
