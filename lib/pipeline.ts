@@ -28,7 +28,7 @@ import { traceOutlines } from './trees/outlines.js';
 import { TreeMetricsAccumulator } from './trees/metrics.js';
 import { ProfileAccumulator, surveySummary } from './trees/summary.js';
 import type { TreeTable } from './trees/table.js';
-import type { AreaOfInterest } from './worker/protocol.js';
+import type { AreaOfInterest, TreePoints } from './worker/protocol.js';
 import { mergeReadouts } from './io/readout-merge.js';
 import { ChunkStreamer, type ChunkDecoder } from './io/chunk-stream.js';
 
@@ -392,6 +392,58 @@ export async function remeasure(inputs: ByteSource[], run: TallyRun & {
     const t = metrics.finish(outlines);
     if (!hasReturns) t.hasReturns = false;
     return t;
+  } finally {
+    await Promise.all(clouds.map((c) => c.close()));
+  }
+}
+
+/**
+ * The points of one crown (noise, withheld and isolated returns left out),
+ * for a side view: distance from the top and height above ground in metres.
+ * More than `maxPoints` are thinned to an even sample (every k-th point).
+ */
+export async function treePoints(inputs: ByteSource[], run: TallyRun & {
+  labels: Grid<Int32Array>; dtm: Grid; label: number; topX: number; topY: number; maxPoints?: number;
+}): Promise<TreePoints> {
+  const max = Math.max(1, Math.min(200_000, Math.floor(run.maxPoints ?? 20_000)));
+  const clouds = await openInputs(inputs, run);
+  try {
+    const { unitM, verticalUnitM: vu } = clouds[0]!.crs;
+    const L = run.labels, D = run.dtm;
+    // First count the crown's points, then keep every k-th so the sample spans the whole crown.
+    const scan = async (visit: (c: PointChunk, i: number, g: number) => void) => {
+      for (const cloud of clouds) {
+        for await (const c of new ChunkStreamer(cloud, run.chunkDecoder).chunks(run.signal)) {
+          for (let i = 0; i < c.count; i++) {
+            const cls = c.classification[i]!;
+            if (cls === 7 || cls === 18 || c.flags[i]! & 4) continue;
+            const col = Math.floor((c.x[i]! - L.originX) / L.cellSize), row = Math.floor((L.originY - c.y[i]!) / L.cellSize);
+            if (col < 0 || row < 0 || col >= L.width || row >= L.height || L.data[row * L.width + col] !== run.label) continue;
+            const dc = Math.floor((c.x[i]! - D.originX) / D.cellSize), dr = Math.floor((D.originY - c.y[i]!) / D.cellSize);
+            const g = dc >= 0 && dr >= 0 && dc < D.width && dr < D.height ? D.data[dr * D.width + dc]! : NaN;
+            if (Number.isFinite(g)) visit(c, i, g);
+          }
+        }
+      }
+    };
+    let total = 0;
+    await scan(() => { total++; });
+    const step = Math.max(1, Math.ceil(total / max));
+    const n = Math.ceil(total / step);
+    const out: TreePoints = {
+      count: 0, distanceM: new Float32Array(n), heightM: new Float32Array(n),
+      returnNumber: new Uint8Array(n), numberOfReturns: new Uint8Array(n), classification: new Uint8Array(n),
+    };
+    let seen = 0;
+    await scan((c, i, g) => {
+      if (seen++ % step !== 0 || out.count >= n) return;
+      const k = out.count++;
+      out.distanceM[k] = Math.hypot(c.x[i]! - run.topX, c.y[i]! - run.topY) * unitM;
+      out.heightM[k] = c.z[i]! * vu - g;
+      out.returnNumber[k] = c.returnNumber[i]!; out.numberOfReturns[k] = c.numberOfReturns[i]!;
+      out.classification[k] = c.classification[i]!;
+    });
+    return out;
   } finally {
     await Promise.all(clouds.map((c) => c.close()));
   }

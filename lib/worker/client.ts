@@ -3,7 +3,7 @@ import type { SurveyReadout } from '../io/types.js';
 import type { ProgressEvent, TallyResult } from '../result.js';
 import type { TreeTable } from '../trees/table.js';
 import type { WorkerLike } from './pool.js';
-import type { InspectRequest, RemeasureRequest, TallyRequest, WorkerReply } from './protocol.js';
+import type { InspectRequest, RemeasureRequest, TallyRequest, TreePoints, TreePointsRequest, WorkerReply } from './protocol.js';
 
 type Pending = { resolve: (r: WorkerReply) => void; reject: (e: unknown) => void; onProgress?: (p: ProgressEvent) => void };
 
@@ -64,6 +64,12 @@ export class TallyClient {
     const transfer = [req.labels.data.buffer, req.chm.data.buffer, req.dtm.data.buffer] as ArrayBuffer[];
     const r = await this.send({ type: 'remeasure', ...req }, transfer, opts);
     return (r as Extract<WorkerReply, { type: 'remeasured' }>).trees;
+  }
+
+  /** The points of one crown for its side view. The grids are copied, not transferred. */
+  async treePoints(req: Omit<TreePointsRequest, 'type' | 'id'>, opts: { signal?: AbortSignal } = {}): Promise<TreePoints> {
+    const r = await this.send({ type: 'tree-points', ...req }, [], opts);
+    return (r as Extract<WorkerReply, { type: 'tree-points' }>).points;
   }
 
   terminate(): void {

@@ -9,7 +9,7 @@ import type { ChunkDecoder } from '../io/chunk-stream.js';
 import { decodeLazChunk, LazPerfHandle, type LazPerfProvider } from '../io/laz.js';
 import { bufferSource } from '../io/sources.js';
 import type { ByteSource } from '../io/types.js';
-import { inspectInputs, remeasure, tally } from '../pipeline.js';
+import { inspectInputs, remeasure, tally, treePoints } from '../pipeline.js';
 import { treeTableTransferables } from '../trees/table.js';
 import type { DemoKind, SurveyInput, WorkerReply, WorkerRequest } from './protocol.js';
 import { validateRequest } from './validate.js';
@@ -88,6 +88,16 @@ export function createHandler(env: WorkerEnvironment): (data: unknown) => Promis
           });
           const transfer = [...treeTableTransferables(result.trees), result.chm.data.buffer, result.dtm.data.buffer, result.labels.data.buffer] as ArrayBuffer[];
           env.post({ type: 'result', id, result }, transfer);
+          break;
+        }
+        case 'tree-points': {
+          const points = await treePoints(await sources(msg.files, msg.names, msg.demo), {
+            ...(msg.crs ? { crs: msg.crs } : {}), ...(env.lazPerf ? { lazPerf: env.lazPerf } : {}), signal: ctrl.signal,
+            labels: msg.labels, dtm: msg.dtm, label: msg.label, topX: msg.topX, topY: msg.topY,
+            ...(msg.maxPoints !== undefined ? { maxPoints: msg.maxPoints } : {}),
+          });
+          const p = points;
+          env.post({ type: 'tree-points', id, points }, [p.distanceM.buffer, p.heightM.buffer, p.returnNumber.buffer, p.numberOfReturns.buffer, p.classification.buffer] as ArrayBuffer[]);
           break;
         }
         case 'remeasure': {

@@ -47,15 +47,34 @@ export interface RemeasureRequest {
   /** The built-in scenario the previous result came from (then `files` is empty). */
   demo?: DemoKind;
 }
+/**
+ * The points of one crown, for its side view: horizontal distance from the
+ * top (m), height above ground (m), return number and class.
+ */
+export interface TreePointsRequest {
+  type: 'tree-points'; id: number; files: SurveyInput[]; names: string[]; crs?: string; demo?: DemoKind;
+  labels: { width: number; height: number; cellSize: number; originX: number; originY: number; data: Int32Array };
+  dtm: { width: number; height: number; cellSize: number; originX: number; originY: number; data: Float32Array };
+  /** Crown label (table row + 1) and its top, CRS units. */
+  label: number; topX: number; topY: number;
+  /** Most points returned (an even sample beyond it); default 20,000. */
+  maxPoints?: number;
+}
+export interface TreePoints {
+  count: number;
+  distanceM: Float32Array; heightM: Float32Array;
+  returnNumber: Uint8Array; numberOfReturns: Uint8Array; classification: Uint8Array;
+}
+export interface TreePointsReply { type: 'tree-points'; id: number; points: TreePoints }
 export interface CancelRequest { type: 'cancel'; id: number }
-export type WorkerRequest = InspectRequest | TallyRequest | RemeasureRequest | CancelRequest | DecodeChunkRequest;
+export type WorkerRequest = InspectRequest | TallyRequest | RemeasureRequest | CancelRequest | DecodeChunkRequest | TreePointsRequest;
 
 export interface ProgressReply { type: 'progress'; id: number; progress: ProgressEvent }
 export interface ReadoutReply { type: 'readout'; id: number; readouts: SurveyReadout[] }
 export interface ResultReply { type: 'result'; id: number; result: TallyResult }
 export interface RemeasureReply { type: 'remeasured'; id: number; trees: TallyResult['trees'] }
 export interface ErrorReply { type: 'error'; id: number; error: SerializedError }
-export type WorkerReply = ProgressReply | ReadoutReply | ResultReply | RemeasureReply | ErrorReply | DecodeChunkReply;
+export type WorkerReply = ProgressReply | ReadoutReply | ResultReply | RemeasureReply | ErrorReply | DecodeChunkReply | TreePointsReply;
 
 /**
  * Pool traffic: a LAZ chunk's compressed bytes in, its decoded points out.

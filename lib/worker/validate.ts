@@ -30,6 +30,7 @@ export function validateRequest(m: unknown): WorkerRequest {
       return m as unknown as WorkerRequest;
     case 'inspect':
     case 'tally':
+    case 'tree-points':
     case 'remeasure': {
       if (m.demo !== undefined && m.demo !== 'park' && m.demo !== 'orchard' && m.demo !== 'canopy') bad('demo must be park, orchard or canopy');
       if (!Array.isArray(m.files) || !m.files.every(isInput)) bad('files must be a list of Blobs, ArrayBuffers or paths');
@@ -41,6 +42,11 @@ export function validateRequest(m: unknown): WorkerRequest {
         const a = m.aoi as Record<string, unknown>;
         if (!isObj(a) || (a.kind !== 'rect' && a.kind !== 'polygon')) bad('aoi must be a rect or polygon');
         if (a.kind === 'polygon' && !Array.isArray(a.rings)) bad('aoi polygon needs rings');
+      }
+      if (m.type === 'tree-points') {
+        if (!isGrid(m.labels, Int32Array) || !isGrid(m.dtm, Float32Array)) bad('tree-points needs the label grid and the DTM');
+        if (!Number.isInteger(m.label) || (m.label as number) < 1) bad('tree-points needs a crown label (1 or more)');
+        if (!Number.isFinite(m.topX) || !Number.isFinite(m.topY)) bad('tree-points needs the top position');
       }
       if (m.type === 'remeasure') {
         if (!isGrid(m.labels, Int32Array)) bad('remeasure needs a label grid (Int32Array)');
