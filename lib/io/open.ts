@@ -26,6 +26,9 @@ export async function openPointCloud(source: ByteSource, opts: OpenOptions = {})
   if (source.size === 0) throw new CrowntallyError('NOT_LAS', `${source.name} is empty (0 bytes); choose a LAS, LAZ or XYZ file`);
   const sig = await source.read(0, 4);
   const isLas = hasLasSignature(sig);
+  if (!isLas && opts.kind !== 'xyz' && looksBinary(await source.read(0, Math.min(source.size, 4096)))) {
+    throw new CrowntallyError('NOT_LAS', `${source.name} is neither a LAS/LAZ file (no "LASF" signature) nor XYZ text; choose a LAS, LAZ or XYZ file`);
+  }
   const kind = opts.kind ?? (isLas ? undefined : 'xyz');
   if (kind === 'xyz') return openXyz(source, opts.crs ? { crs: opts.crs } : {});
   if (!isLas) throw new CrowntallyError('NOT_LAS', `${source.name} is not a LAS/LAZ file (it does not start with "LASF")`);
@@ -83,4 +86,15 @@ export async function openPointCloud(source: ByteSource, opts: OpenOptions = {})
       await source.close?.();
     },
   };
+}
+
+/** Text clouds hold printable characters and line ends; a NUL or many control bytes mean binary. */
+function looksBinary(b: Uint8Array): boolean {
+  let ctrl = 0;
+  for (let i = 0; i < b.length; i++) {
+    const c = b[i]!;
+    if (c === 0) return true;
+    if (c < 9 || (c > 13 && c < 32)) ctrl++;
+  }
+  return ctrl > b.length / 20;
 }
