@@ -4,7 +4,7 @@ import type { ProgressEvent, TallyResult } from '../../lib/result.js';
 import type { TreeTable } from '../../lib/trees/table.js';
 import { TallyClient } from '../../lib/worker/client.js';
 import type { WorkerLike } from '../../lib/worker/pool.js';
-import type { InspectRequest, RemeasureRequest, TallyRequest } from '../../lib/worker/protocol.js';
+import type { InspectRequest, RemeasureRequest, TallyRequest, TreePoints, TreePointsRequest } from '../../lib/worker/protocol.js';
 
 /**
  * The app's line to the processing worker (all computation happens there).
@@ -51,5 +51,10 @@ export class Jobs {
       chm: { ...r.chm, data: r.chm.data.slice() },
       dtm: { ...r.dtm, data: r.dtm.data.slice() },
     });
+  }
+
+  /** The points of one crown for the side view (the worker reads the survey again and keeps that crown's cells). */
+  treePoints(r: Omit<TreePointsRequest, 'type' | 'id'>): Promise<TreePoints> {
+    return this.get().treePoints(r);
   }
 }

@@ -41,3 +41,27 @@ export function rgbCss([r, g, b]: [number, number, number]): string {
 export function scaleTopM(maxM: number): number {
   return Math.max(5, Math.ceil(maxM / 5) * 5);
 }
+
+/**
+ * Side-view point colours, our own picks. Neighbouring keys differ in
+ * lightness by a wide step as well as in hue, so they stay apart for the
+ * common colour-vision deficiencies and when printed in grey; the legend
+ * names every key, so colour is never the only cue.
+ */
+export const RETURN_KEYS: { label: string; colour: string; test: (returnNumber: number) => boolean }[] = [
+  { label: '1st return', colour: '#0b3c5d', test: (r) => r === 1 },
+  { label: '2nd return', colour: '#e3a21a', test: (r) => r === 2 },
+  { label: '3rd return', colour: '#2a9d8f', test: (r) => r === 3 },
+  { label: '4th or later', colour: '#b23a48', test: (r) => r >= 4 },
+  { label: 'no return number', colour: '#9a9a9a', test: (r) => r === 0 },
+];
+
+/** ASPRS standard class codes (LAS 1.4 R15 table of standard classes) grouped for the side view. */
+export const CLASS_KEYS: { label: string; colour: string; test: (cls: number) => boolean }[] = [
+  { label: 'ground (2)', colour: '#7d4e24', test: (c) => c === 2 },
+  { label: 'low vegetation (3)', colour: '#d4e27a', test: (c) => c === 3 },
+  { label: 'medium vegetation (4)', colour: '#5fae4f', test: (c) => c === 4 },
+  { label: 'high vegetation (5)', colour: '#173d24', test: (c) => c === 5 },
+  { label: 'building (6)', colour: '#8f6fc6', test: (c) => c === 6 },
+  { label: 'other classes', colour: '#9a9a9a', test: (c) => c !== 2 && c !== 3 && c !== 4 && c !== 5 && c !== 6 },
+];

@@ -9,6 +9,8 @@ import type { Jobs } from './jobs.js';
 import { MapView } from './map.js';
 import { newEditKey, type EditRecord, type FieldStore, type ProjectRecord, type StoredRun } from './store.js';
 import { COLUMN_LABEL, TreeListView } from './table.js';
+import { sideView, type SideColouring } from './sideview.js';
+import type { TreePoints } from '../../lib/worker/protocol.js';
 
 /**
  * The results of a survey: map and tree list side by side on wide screens
@@ -29,6 +31,9 @@ export async function openResults(main: HTMLElement, store: FieldStore, jobs: Jo
   let selected = -1;
   let mode: 'select' | 'add' | 'merge' = 'select';
   const status = h('div', { class: 'status', role: 'status' });
+  // Side-view points per row of the current run (cleared whenever crowns change).
+  let sidePoints = new Map<number, TreePoints>();
+  let sideColouring: SideColouring = 'return';
 
   const marks = () => {
     const m = new Map<number, 'edited' | 'deleted'>();
@@ -66,6 +71,7 @@ export async function openResults(main: HTMLElement, store: FieldStore, jobs: Jo
   refreshAll();
 
   function refreshAll(): void {
+    sidePoints = new Map();
     byRow = editByRow(run.trees, edits);
     map.setData({ chm: run.chm, labels: run.labels, trees: run.trees, outlines: run.outlines, marks: marks() });
     list.setData(run.trees, byRow);
@@ -236,8 +242,38 @@ export async function openResults(main: HTMLElement, store: FieldStore, jobs: Jo
       t.hasReturns
         ? columnChart('Returns by return number', hist.slice(0, last).map((_v, i) => String(i + 1)), hist.slice(0, last), 'return number', 'points')
         : h('p', { class: 'hint' }, 'This survey has no return numbers (a photogrammetric cloud), so there is no return histogram.'),
-      h('p', { class: 'hint placeholder' }, 'Side view of this tree\u2019s own points: not available yet; the processing worker does not send points back to the app.'),
+      sideBox(row),
     );
+  }
+
+  function sideBox(row: number): HTMLElement {
+    const box = h('div', { class: 'side-box' });
+    const show = (pts: TreePoints) => {
+      const fig = sideView(pts, sideColouring, run.trees.hasReturns);
+      fig.addEventListener('click', (ev) => {
+        const m = (ev.target as HTMLElement).closest?.('[data-colouring]')?.getAttribute('data-colouring');
+        if (m === 'return' || m === 'class') sideColouring = m;
+      });
+      box.replaceChildren(fig);
+    };
+    const have = sidePoints.get(row);
+    if (have) { show(have); return box; }
+    box.append(h('p', { class: 'hint side-wait' }, 'Reading this tree\u2019s points for the side view\u2026'));
+    const ask = run;
+    void store.getFiles(project.id).then((files) => jobs.treePoints({
+      files: files.map((f) => f.blob), names: files.map((f) => f.name),
+      ...(project.crs ? { crs: project.crs } : {}),
+      ...(project.source.kind === 'demo' ? { demo: project.source.demo } : {}),
+      labels: ask.labels, dtm: ask.dtm, label: row + 1,
+      topX: ask.trees.columns.x[row]!, topY: ask.trees.columns.y[row]!, maxPoints: 4000,
+    })).then((pts) => {
+      if (ask !== run) return; // crowns changed meanwhile: this answer belongs to an older table
+      sidePoints.set(row, pts);
+      if (box.isConnected) show(pts);
+    }, (err: unknown) => {
+      box.replaceChildren(h('p', { class: 'error', role: 'alert' }, `The side view could not be drawn: ${(err as Error).message}`));
+    });
+    return box;
   }
 
   function renderOverview(): void {

@@ -26,6 +26,12 @@ export interface ProjectRecord {
   crs?: string;
   options: Partial<TallyOptions>;
   readouts?: SurveyReadout[];
+  /**
+   * 'complete' once every record the project needs is stored; written last
+   * in the transaction that stores them. A record without it (older
+   * versions) counts as complete; `incompleteIds` also checks the parts.
+   */
+  status?: 'complete' | 'incomplete';
   /** Set once a run has been stored. */
   run?: {
     at: number;
@@ -90,14 +96,30 @@ export class StoreError extends Error {
   }
 }
 
-function explain(e: unknown, what: string): never {
-  if (e instanceof StoreError) throw e;
-  const name = (e as { name?: string } | null)?.name ?? '';
-  if (name === 'QuotaExceededError') {
-    throw new StoreError('QUOTA', `the device has no room left to save ${what}; delete an old project or free space, then try again (nothing already saved was lost)`);
-  }
-  const msg = e instanceof Error ? e.message : String(e);
-  throw new StoreError('WRITE_FAILED', `could not save ${what} (${msg}); nothing already saved was changed`);
+/** Bytes of source files per project, largest first: what deleting each would free at least. */
+function largest(projects: ProjectRecord[]): string {
+  const sized = projects.map((p) => ({ name: p.name, size: p.source.kind === 'files' ? p.source.sizes.reduce((a, b) => a + b, 0) : 0 }))
+    .sort((a, b) => b.size - a.size).slice(0, 3);
+  if (!sized.length) return 'there are no surveys stored to delete; free space on the device';
+  return `delete a survey you no longer need (largest first: ${sized.map((x) => `"${x.name}" ${mb(x.size)}`).join(', ')}) or free space on the device`;
+}
+
+function mb(n: number): string {
+  return `${(n / 1048576).toFixed(n < 10 * 1048576 ? 1 : 0)} MB`;
+}
+
+/** Storage use as the browser reports it, for the quota message. */
+async function usageText(): Promise<string> {
+  try {
+    const est = await globalThis.navigator?.storage?.estimate?.();
+    if (est && Number.isFinite(est.usage) && Number.isFinite(est.quota)) return `this app uses ${mb(est.usage!)} of about ${mb(est.quota!)} the browser allows it`;
+  } catch { /* the estimate is a courtesy */ }
+  return 'the browser does not say how much this app uses';
+}
+
+function isQuota(e: unknown): boolean {
+  const err = e as { name?: string; inner?: { name?: string } } | null;
+  return err?.name === 'QuotaExceededError' || err?.inner?.name === 'QuotaExceededError';
 }
 
 /**
@@ -177,21 +199,41 @@ function newId(): string {
 export class FieldStore {
   constructor(readonly db: IDBPDatabase<FieldDB>) {}
 
+  /**
+   * Test hook (only set by the app when opened with ?test-hooks=1): while it
+   * returns true, saveRun keeps its transaction open before the project
+   * record is written, so a test can close the page in the middle of a save.
+   */
+  holdSave: (() => boolean) | null = null;
+
   close(): void { this.db.close(); }
+
+  /** The error to throw for a failed write: QUOTA (with use and what to delete), or WRITE_FAILED. */
+  async explain(e: unknown, what: string): Promise<StoreError> {
+    if (e instanceof StoreError) return e;
+    if (isQuota(e)) {
+      let projects: ProjectRecord[] = [];
+      try { projects = await this.listProjects(); } catch { /* listing is a courtesy */ }
+      return new StoreError('QUOTA', `the device has no room left to save ${what}: ${await usageText()}. To make room, ${largest(projects)}, then try again. Nothing already saved was lost.`);
+    }
+    const msg = e instanceof Error ? e.message : String(e);
+    return new StoreError('WRITE_FAILED', `could not save ${what} (${msg}); nothing already saved was changed`);
+  }
 
   /** Creates a project and stores its source files as Blobs, in one transaction. */
   async createProject(p: { name: string; source: ProjectRecord['source']; crs?: string; options?: Partial<TallyOptions> }, files: { name: string; blob: Blob }[] = []): Promise<ProjectRecord> {
     const now = Date.now();
-    const rec: ProjectRecord = { id: newId(), name: p.name, createdAt: now, updatedAt: now, source: p.source, options: p.options ?? {} };
+    const rec: ProjectRecord = { id: newId(), name: p.name, createdAt: now, updatedAt: now, source: p.source, options: p.options ?? {}, status: 'complete' };
     if (p.crs) rec.crs = p.crs;
     try {
       const tx = this.db.transaction(['projects', 'files'], 'readwrite');
+      // The project record goes last: a survey is listed only once its files are in.
       await allOrNothing(tx, [
-        () => tx.objectStore('projects').add(rec),
         ...files.map((f, index) => () => tx.objectStore('files').add({ projectId: rec.id, index, name: f.name, blob: f.blob })),
+        () => tx.objectStore('projects').add(rec),
       ]);
     } catch (e) {
-      explain(e, `the project "${p.name}"`);
+      throw await this.explain(e, `the project "${p.name}"`);
     }
     return rec;
   }
@@ -217,7 +259,7 @@ export class FieldStore {
       await tx.done;
       return p;
     } catch (e) {
-      explain(e, 'the project settings');
+      throw await this.explain(e, 'the project settings');
     }
   }
 
@@ -239,16 +281,22 @@ export class FieldStore {
       p.run = meta;
       if (readouts) p.readouts = readouts;
       p.updatedAt = Date.now();
+      p.status = 'complete';
       await allOrNothing(tx, [
-        () => projects.put(p),
         () => tx.objectStore('trees').put({ projectId, trees: run.trees }),
         () => tx.objectStore('outlines').put({ projectId, outlines: run.outlines }),
         () => tx.objectStore('rasters').put({ projectId, kind: 'chm', grid: run.chm }),
         () => tx.objectStore('rasters').put({ projectId, kind: 'dtm', grid: run.dtm }),
         () => tx.objectStore('rasters').put({ projectId, kind: 'labels', grid: run.labels }),
+        async () => {
+          // Reads keep the transaction alive while a test holds it open (the hook is unset in normal use).
+          while (this.holdSave?.()) await projects.get(projectId);
+          // The project record with its run summary and status is written last.
+          await projects.put(p);
+        },
       ]);
     } catch (e) {
-      explain(e, 'the results');
+      throw await this.explain(e, 'the results');
     }
   }
 
@@ -267,7 +315,7 @@ export class FieldStore {
         () => tx.objectStore('rasters').put({ projectId, kind: 'labels', grid: labels }),
       ]);
     } catch (e) {
-      explain(e, 'the corrected crowns');
+      throw await this.explain(e, 'the corrected crowns');
     }
   }
 
@@ -295,7 +343,7 @@ export class FieldStore {
     try {
       await this.db.put('edits', { ...edit, updatedAt: Date.now() });
     } catch (e) {
-      explain(e, 'the correction');
+      throw await this.explain(e, 'the correction');
     }
   }
 
@@ -306,7 +354,7 @@ export class FieldStore {
       const now = Date.now();
       await allOrNothing(tx, edits.map((e) => () => tx.store.put({ ...e, updatedAt: now })));
     } catch (e) {
-      explain(e, 'the corrections');
+      throw await this.explain(e, 'the corrections');
     }
   }
 
@@ -316,6 +364,31 @@ export class FieldStore {
 
   async listEdits(projectId: string): Promise<EditRecord[]> {
     return this.db.getAllFromIndex('edits', 'byProject', projectId);
+  }
+
+  /**
+   * Projects that are not whole: marked incomplete, or with a run summary
+   * but a missing tree table, outline set or raster, or with fewer stored
+   * files than their source names. They can be deleted, not opened.
+   */
+  async incompleteIds(): Promise<Set<string>> {
+    const tx = this.db.transaction(['projects', 'files', 'trees', 'outlines', 'rasters'], 'readonly');
+    const [projects, fileKeys, treeKeys, outlineKeys, rasterKeys] = await Promise.all([
+      tx.objectStore('projects').getAll(), tx.objectStore('files').getAllKeys(), tx.objectStore('trees').getAllKeys(),
+      tx.objectStore('outlines').getAllKeys(), tx.objectStore('rasters').getAllKeys(),
+    ]);
+    const files = new Map<string, number>();
+    for (const [id] of fileKeys) files.set(id, (files.get(id) ?? 0) + 1);
+    const rasters = new Map<string, number>();
+    for (const [id] of rasterKeys) rasters.set(id, (rasters.get(id) ?? 0) + 1);
+    const trees = new Set(treeKeys), outlines = new Set(outlineKeys);
+    const out = new Set<string>();
+    for (const p of projects) {
+      const wantFiles = p.source.kind === 'files' ? p.source.names.length : 0;
+      if (p.status === 'incomplete' || (files.get(p.id) ?? 0) < wantFiles) out.add(p.id);
+      else if (p.run && (!trees.has(p.id) || !outlines.has(p.id) || (rasters.get(p.id) ?? 0) < 3)) out.add(p.id);
+    }
+    return out;
   }
 
   /** Removes a project and everything stored for it, in one transaction. */
