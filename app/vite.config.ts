@@ -1,9 +1,13 @@
+import { readFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import { defineConfig, type Plugin } from 'vite';
 import { VitePWA } from 'vite-plugin-pwa';
 import { CSP_META } from './csp.js';
 
 const root = fileURLToPath(new URL('.', import.meta.url));
+const pkg = JSON.parse(readFileSync(new URL('../package.json', import.meta.url), 'utf8')) as { version: string };
+/** Shown in the app's header; CROWNTALLY_APP_VERSION overrides it (the update test builds two versions). */
+const appVersion = process.env['CROWNTALLY_APP_VERSION'] ?? pkg.version;
 
 /** Writes the Content-Security-Policy meta tag into the built page (not in dev, whose live reload needs inline styles). */
 function cspMeta(): Plugin {
@@ -17,6 +21,7 @@ function cspMeta(): Plugin {
 export default defineConfig({
   root,
   base: './',
+  define: { __APP_VERSION__: JSON.stringify(appVersion) },
   build: {
     outDir: 'dist',
     emptyOutDir: true,

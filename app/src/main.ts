@@ -7,6 +7,8 @@ import { Jobs } from './jobs.js';
 import { openStore, StoreError, type FieldStore, type ProjectRecord } from './store.js';
 import { openResults } from './results.js';
 import { reattachEdits } from './edits.js';
+import { exportProject, importProject } from './bundle.js';
+import { download, safeName } from './exports.js';
 import './styles.css';
 
 /**
@@ -41,13 +43,14 @@ function netStatus(): void {
 window.addEventListener('online', netStatus);
 window.addEventListener('offline', netStatus);
 netStatus();
+document.getElementById('version')!.textContent = `version ${__APP_VERSION__}`;
 
 const updateSW = registerSW({
   onNeedRefresh() {
     const u = document.getElementById('update')!;
     u.hidden = false;
-    u.replaceChildren(h('span', {}, 'A new version of Crowntally is ready. Your surveys and corrections are saved on this device and stay as they are.'),
-      button('Update now', () => { void updateSW(true); }, 'btn primary'),
+    u.replaceChildren(h('span', { class: 'update-text' }, 'A new version is ready. Your surveys and corrections are saved on this device and stay as they are.'),
+      button('Update now', () => { void updateSW(true); }, 'btn primary', { 'data-action': 'update-now' }),
       button('Later', () => { u.hidden = true; }, 'btn'));
   },
   onOfflineReady() {
@@ -107,13 +110,27 @@ async function homeScreen(): Promise<void> {
     } catch (e) { showError(status, e); }
   }, 'btn', { 'data-demo': kind });
   const storage = h('div', { class: 'storage' });
+  const importInput = h('input', { type: 'file', id: 'import-input', accept: '.ctproject', class: 'visually-hidden' });
+  const importStatus = h('div', { class: 'status' });
+  importInput.addEventListener('change', () => {
+    const f = importInput.files?.[0];
+    if (!f) return;
+    void importProject(store, f).then(async (p) => {
+      importInput.value = '';
+      importStatus.replaceChildren(h('span', { class: 'saved' }, `Added "${p.name}" from the file.`));
+      await renderList(list);
+    }, (e: unknown) => { importInput.value = ''; showError(importStatus, e); });
+  });
   main.replaceChildren(
     h('section', { class: 'card' }, h('h1', {}, 'New survey'),
       h('label', { class: 'lbl', for: 'survey-name' }, 'Survey name (optional)'), nameInput, fileInput, drop,
       h('p', { class: 'hint' }, 'Files stay on this device. Several tiles of one survey can be chosen together.'),
       h('div', { class: 'row' }, h('span', { class: 'lbl' }, 'Or try an invented survey:'), demo('park', 'Demo park'), demo('orchard', 'Demo orchard')),
       status),
-    h('section', { class: 'card' }, h('h2', {}, 'Surveys on this device'), list),
+    h('section', { class: 'card' }, h('h2', {}, 'Surveys on this device'), list,
+      h('div', { class: 'row wrap' }, importInput, h('label', { class: 'btn', for: 'import-input', 'data-action': 'import' }, 'Open a project file\u2026'),
+        h('span', { class: 'hint' }, 'A survey saved with \u201cSave as one file\u201d, from this or another device.')),
+      importStatus),
     h('section', { class: 'card' }, h('h2', {}, 'Storage'), storage),
   );
   await renderList(list);
@@ -122,10 +139,13 @@ async function homeScreen(): Promise<void> {
 
 async function renderList(list: HTMLElement): Promise<void> {
   const ps = await store.listProjects();
+  const broken = await store.incompleteIds();
   if (!ps.length) { list.replaceChildren(h('li', { class: 'empty' }, 'No surveys yet.')); return; }
   list.replaceChildren(...ps.map((p) => {
     const src = p.source.kind === 'demo' ? 'invented scenario' : `${p.source.names.length} file${p.source.names.length > 1 ? 's' : ''}: ${p.source.names.join(', ')}`;
-    const info = p.run ? `${p.run.treeCount} trees, processed ${new Date(p.run.at).toLocaleString()}` : 'not processed yet';
+    const incomplete = broken.has(p.id);
+    const info = incomplete ? 'Incomplete: saving stopped part way. Delete it and start the survey again.'
+      : p.run ? `${p.run.treeCount} trees, processed ${new Date(p.run.at).toLocaleString()}` : 'not processed yet';
     let armed = false;
     const del = button('Delete', async () => {
       if (!armed) { armed = true; del.textContent = 'Tap again to delete'; del.classList.add('danger'); return; }
@@ -133,10 +153,16 @@ async function renderList(list: HTMLElement): Promise<void> {
       await renderList(list);
       const st = document.querySelector<HTMLElement>('.storage');
       if (st) void renderStorage(st);
-    }, 'btn', { 'aria-label': `Delete ${p.name}` });
-    return h('li', { class: 'project', 'data-id': p.id },
-      h('div', { class: 'grow' }, h('strong', { class: 'pname' }, p.name), h('div', { class: 'hint' }, src), h('div', { class: 'hint' }, info)),
-      button('Open', () => go(p.run ? `#/results/${p.id}` : `#/setup/${p.id}`), 'btn primary', { 'aria-label': `Open ${p.name}` }),
+    }, 'btn', { 'aria-label': `Delete ${p.name}`, 'data-action': 'delete-project' });
+    const save = button('Save as one file', async () => {
+      try {
+        download(`${safeName(p.name)}.ctproject`, await exportProject(store, p.id), 'application/octet-stream');
+      } catch (e) { showError(list.parentElement!.querySelector<HTMLElement>('.status') ?? list, e); }
+    }, 'btn', { 'aria-label': `Save ${p.name} as one file`, 'data-action': 'export-project' });
+    return h('li', { class: `project${incomplete ? ' incomplete' : ''}`, 'data-id': p.id, 'data-state': incomplete ? 'incomplete' : p.run ? 'processed' : 'new' },
+      h('div', { class: 'grow' }, h('strong', { class: 'pname' }, p.name), h('div', { class: 'hint' }, src), h('div', { class: incomplete ? 'hint warn-text' : 'hint' }, info)),
+      incomplete ? null : button('Open', () => go(p.run ? `#/results/${p.id}` : `#/setup/${p.id}`), 'btn primary', { 'aria-label': `Open ${p.name}` }),
+      incomplete ? null : save,
       del);
   }));
 }
@@ -302,6 +328,7 @@ async function saveResult(p: ProjectRecord, r: TallyResult) {
 async function startApp(): Promise<void> {
   try {
     store = await openStore();
+    if (new URLSearchParams(location.search).get('test-hooks') === '1') (await import('./testhooks.js')).installTestHooks(store);
   } catch (e) {
     showError(main, new Error(`the app cannot open its storage on this device (${message(e)}); private browsing may block it`));
     return;

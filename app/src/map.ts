@@ -114,6 +114,26 @@ export class MapView {
     this.schedule();
   }
 
+  /**
+   * Where on the canvas (CSS px from its top-left) a tap lands inside the
+   * crown of `row`: the crown cell nearest its top. Null if the crown has no
+   * cell. One pass over the label grid; used by the browser tests.
+   */
+  screenOf(row: number): [number, number] | null {
+    if (!this.data || row < 0) return null;
+    const { labels, chm, trees } = this.data;
+    const tx = (trees.columns.x[row]! - chm.originX) / chm.cellSize, ty = (chm.originY - trees.columns.y[row]!) / chm.cellSize;
+    let best = -1, bestD = Infinity;
+    for (let i = 0; i < labels.data.length; i++) {
+      if (labels.data[i] !== row + 1) continue;
+      const d = Math.hypot((i % labels.width) + 0.5 - tx, Math.floor(i / labels.width) + 0.5 - ty);
+      if (d < bestD) { bestD = d; best = i; }
+    }
+    if (best < 0) return null;
+    const [sx, sy] = this.transform.apply([(best % labels.width) + 0.5, Math.floor(best / labels.width) + 0.5]);
+    return [sx, sy];
+  }
+
   private tap(ev: MouseEvent): void {
     if (!this.data) return;
     const r = this.canvas.getBoundingClientRect();

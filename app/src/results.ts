@@ -4,7 +4,7 @@ import { columnDecimals } from '../../lib/export/csv.js';
 import { columnChart, profileChart, scatterChart } from './charts.js';
 import { button, fmt, h, put } from './dom.js';
 import { addCrown, editByRow, mergeLabels, reattachEdits, topsOf } from './edits.js';
-import { exportCSV, exportGeoJSON, exportGeoTIFF, type ExportInput } from './exports.js';
+import { exportCSV, exportGeoJSON, exportGeoTIFF, exportRows, type ExportInput } from './exports.js';
 import type { Jobs } from './jobs.js';
 import { MapView } from './map.js';
 import { newEditKey, type EditRecord, type FieldStore, type ProjectRecord, type StoredRun } from './store.js';
@@ -70,6 +70,16 @@ export async function openResults(main: HTMLElement, store: FieldStore, jobs: Jo
   showUnplaced();
   refreshAll();
 
+  // Browser-test view of the current run (present only when the page was opened with ?test-hooks=1).
+  const hooks = (globalThis as unknown as { __crowntally?: Record<string, unknown> }).__crowntally;
+  if (hooks) {
+    hooks['results'] = {
+      trees: () => ({ tree_id: Array.from(run.trees.columns.tree_id), x: Array.from(run.trees.columns.x), y: Array.from(run.trees.columns.y), area: Array.from(run.trees.columns.crown_area_m2) }),
+      screenOf: (row: number) => map.screenOf(row),
+      selected: () => selected,
+    };
+  }
+
   function refreshAll(): void {
     sidePoints = new Map();
     byRow = editByRow(run.trees, edits);
@@ -85,6 +95,7 @@ export async function openResults(main: HTMLElement, store: FieldStore, jobs: Jo
     byRow = editByRow(run.trees, edits);
     map.setMarks(marks());
     list.setEdits(byRow);
+    renderOverview();
   }
 
   function select(row: number): void {
@@ -279,10 +290,11 @@ export async function openResults(main: HTMLElement, store: FieldStore, jobs: Jo
   function renderOverview(): void {
     const s = meta.summary;
     const hh = s.heightHistogram;
+    const kept = exportRows(run.trees.count, byRow).length;
     overview.replaceChildren(
       h('h2', {}, 'Survey overview'),
       h('dl', { class: 'facts' },
-        h('dt', {}, 'Trees'), h('dd', {}, String(run.trees.count)),
+        h('dt', {}, 'Trees'), h('dd', { id: 'kept-count', 'data-kept': kept }, kept === run.trees.count ? String(kept) : `${kept} (${run.trees.count - kept} deleted or merged away)`),
         h('dt', {}, 'Area'), h('dd', {}, `${fmt(s.areaM2 / 10000, 2)} ha`),
         h('dt', {}, 'Trees per hectare'), h('dd', {}, fmt(s.treesPerHa, 1)),
         h('dt', {}, 'Canopy cover'), h('dd', {}, `${fmt(s.canopyCover * 100, 1)} %`),
