@@ -164,7 +164,7 @@ export class TreeListView {
     for (let p = from; p < to; p++) {
       const i = this.order[p]!;
       const e = this.edits.get(i);
-      const mark = e ? (e.deleted ? 'deleted' : 'edited') : '';
+      const mark = e ? (e.deleted || e.mergedInto ? 'deleted' : 'edited') : '';
       const r = h('div', { class: `trow${i === this.selected ? ' selected' : ''}${mark ? ` ${mark}` : ''}`, role: 'row', 'data-row': i, 'aria-selected': i === this.selected ? 'true' : 'false' },
         h('span', { class: 'tcell mark', title: mark }, mark === 'deleted' ? '\u2715' : mark === 'edited' ? '\u25c6' : ''),
         ...TREE_COLUMNS.map((c) => h('span', { class: c === 'x' || c === 'y' ? 'tcell wide' : 'tcell' }, fmt(t.columns[c][i]!, columnDecimals(c), !(c === 'x' || c === 'y' || c === 'tree_id')))));
