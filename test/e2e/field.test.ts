@@ -44,7 +44,10 @@ async function shotBoth(p: Page, name: string, scroll?: string): Promise<void> {
   for (const [w, hgt] of [[1280, 900], [768, 1024]] as const) {
     await p.setViewportSize({ width: w, height: hgt });
     await p.waitForTimeout(250);
-    if (scroll) await p.locator(scroll).first().scrollIntoViewIfNeeded();
+    if (scroll) {
+      await p.locator(scroll).first().evaluate((el) => el.scrollIntoView({ block: 'start' }));
+      await p.evaluate(() => window.scrollBy(0, -80)); // clear of the sticky header
+    }
     await shot(p, `${name}-${w}`);
   }
   await p.setViewportSize({ width: 1280, height: 900 });
