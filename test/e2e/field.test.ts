@@ -58,13 +58,6 @@ async function open(p: Page, hash = '#/'): Promise<void> {
   await p.waitForFunction(() => !!(window as unknown as { __crowntally?: unknown }).__crowntally);
 }
 
-async function processDemo(p: Page, kind: 'park' | 'orchard'): Promise<void> {
-  await p.locator(`[data-demo="${kind}"]`).click();
-  await p.locator('.readout').first().waitFor({ timeout: 60_000 });
-  await p.locator('#start').click();
-  await p.locator('.trows .trow').first().waitFor({ timeout: 150_000 });
-}
-
 const treesInPage = (p: Page) => p.evaluate(() => (window as unknown as { __crowntally: { results: { trees(): TreesView } } }).__crowntally.results.trees());
 const selectedRow = (p: Page) => p.evaluate(() => (window as unknown as { __crowntally: { results: { selected(): number } } }).__crowntally.results.selected());
 const kept = async (p: Page) => Number(await p.locator('#kept-count').getAttribute('data-kept'));
@@ -96,7 +89,11 @@ afterAll(async () => {
 describe('field app in Chromium: side view, merge, large lists, safe storage', () => {
   it('draws the points of the selected tree, by return number and by class, with a key', async () => {
     await open(page);
-    await processDemo(page, 'park');
+    await page.locator('[data-demo="park"]').click();
+    await page.locator('.readout').first().waitFor({ timeout: 60_000 });
+    await shotBoth(page, '16-setup');
+    await page.locator('#start').click();
+    await page.locator('.trows .trow').first().waitFor({ timeout: 150_000 });
     await page.locator('.trows .trow').first().click();
     const circles = page.locator('.side-view .side-points circle');
     await expect.poll(() => circles.count(), { timeout: 60_000 }).toBeGreaterThan(20);
