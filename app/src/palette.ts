@@ -53,7 +53,7 @@ export const RETURN_KEYS: { label: string; colour: string; test: (returnNumber: 
   { label: '2nd return', colour: '#e3a21a', test: (r) => r === 2 },
   { label: '3rd return', colour: '#2a9d8f', test: (r) => r === 3 },
   { label: '4th or later', colour: '#b23a48', test: (r) => r >= 4 },
-  { label: 'no return number', colour: '#9a9a9a', test: (r) => r === 0 },
+  { label: 'no return number', colour: '#d0d0d0', test: (r) => r === 0 },
 ];
 
 /** ASPRS standard class codes (LAS 1.4 R15 table of standard classes) grouped for the side view. */
@@ -63,5 +63,5 @@ export const CLASS_KEYS: { label: string; colour: string; test: (cls: number) =>
   { label: 'medium vegetation (4)', colour: '#5fae4f', test: (c) => c === 4 },
   { label: 'high vegetation (5)', colour: '#173d24', test: (c) => c === 5 },
   { label: 'building (6)', colour: '#8f6fc6', test: (c) => c === 6 },
-  { label: 'other classes', colour: '#9a9a9a', test: (c) => c !== 2 && c !== 3 && c !== 4 && c !== 5 && c !== 6 },
+  { label: 'other classes', colour: '#b8b8b8', test: (c) => c !== 2 && c !== 3 && c !== 4 && c !== 5 && c !== 6 },
 ];
