@@ -20,6 +20,8 @@ import type { TreePoints } from '../../lib/worker/protocol.js';
  */
 
 const CONDITIONS = ['', 'good', 'fair', 'poor', 'dead', 'not assessed'];
+/** Most points drawn in a side view: enough to read a crown's shape, few enough for a tablet to draw as SVG. */
+const SIDE_POINTS = 4000;
 
 export async function openResults(main: HTMLElement, store: FieldStore, jobs: Jobs, project: ProjectRecord, nav: { toSetup: () => void }): Promise<void> {
   const loaded = await store.loadRun(project.id);
@@ -260,7 +262,7 @@ export async function openResults(main: HTMLElement, store: FieldStore, jobs: Jo
   function sideBox(row: number): HTMLElement {
     const box = h('div', { class: 'side-box' });
     const show = (pts: TreePoints) => {
-      const fig = sideView(pts, sideColouring, run.trees.hasReturns);
+      const fig = sideView(pts, sideColouring, run.trees.hasReturns, SIDE_POINTS);
       fig.addEventListener('click', (ev) => {
         const m = (ev.target as HTMLElement).closest?.('[data-colouring]')?.getAttribute('data-colouring');
         if (m === 'return' || m === 'class') sideColouring = m;
@@ -276,7 +278,7 @@ export async function openResults(main: HTMLElement, store: FieldStore, jobs: Jo
       ...(project.crs ? { crs: project.crs } : {}),
       ...(project.source.kind === 'demo' ? { demo: project.source.demo } : {}),
       labels: ask.labels, dtm: ask.dtm, label: row + 1,
-      topX: ask.trees.columns.x[row]!, topY: ask.trees.columns.y[row]!, maxPoints: 4000,
+      topX: ask.trees.columns.x[row]!, topY: ask.trees.columns.y[row]!, maxPoints: SIDE_POINTS,
     })).then((pts) => {
       if (ask !== run) return; // crowns changed meanwhile: this answer belongs to an older table
       sidePoints.set(row, pts);

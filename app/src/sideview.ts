@@ -26,9 +26,10 @@ export function keyIndex(values: Uint8Array, keys: { test: (v: number) => boolea
   return out;
 }
 
-export function sideView(pts: TreePoints, initial: SideColouring, hasReturns: boolean): HTMLElement {
+/** `maxPoints` is the cap the request set: a crown with exactly that many points was probably thinned to an even sample. */
+export function sideView(pts: TreePoints, initial: SideColouring, hasReturns: boolean, maxPoints = Infinity): HTMLElement {
   const wrap = h('figure', { class: 'chart side-view' });
-  const cap = h('figcaption', {}, `Side view of this tree\u2019s points (${pts.count.toLocaleString()} shown)`);
+  const cap = h('figcaption', {}, `Side view of this tree\u2019s points (${pts.count.toLocaleString()} shown${pts.count >= maxPoints ? ', an even sample of a larger crown' : ''})`);
   const svg = document.createElementNS(NS, 'svg');
   svg.setAttribute('viewBox', `0 0 ${W} ${H}`);
   svg.setAttribute('role', 'img');
