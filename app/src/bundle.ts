@@ -150,7 +150,7 @@ export async function parseProjectFile(file: Blob): Promise<ProjectBundle> {
   const b = dec(manifest) as Record<string, unknown>;
   const project = b['project'] as ProjectRecord | undefined;
   if (!project || typeof project.id !== 'string' || typeof project.name !== 'string') bad('it holds no project');
-  return {
+  const out: ProjectBundle = {
     project,
     files: (b['files'] as FileRecord[] | undefined) ?? [],
     trees: (b['trees'] as ProjectBundle['trees']) ?? null,
@@ -158,6 +158,35 @@ export async function parseProjectFile(file: Blob): Promise<ProjectBundle> {
     rasters: (b['rasters'] as RasterRecord[] | undefined) ?? [],
     edits: (b['edits'] as EditRecord[] | undefined) ?? [],
   };
+  checkBundle(out);
+  return out;
+}
+
+/**
+ * The shape checks the results screen relies on: a file that passes the
+ * container checks but holds records of the wrong shape is refused here
+ * rather than stored and failing later on the map or in the list.
+ */
+function checkBundle(b: ProjectBundle): void {
+  const p = b.project;
+  const src = p.source as { kind?: unknown; names?: unknown; sizes?: unknown; demo?: unknown } | undefined;
+  if (!src || (src.kind !== 'files' && src.kind !== 'demo')) bad('the survey source is missing');
+  if (src.kind === 'files' && (!Array.isArray(src.names) || !Array.isArray(src.sizes))) bad('the survey file list is damaged');
+  if (!Array.isArray(b.files) || !Array.isArray(b.rasters) || !Array.isArray(b.edits)) bad('a record list is damaged');
+  for (const f of b.files) if (!(f?.blob instanceof Blob) || typeof f.name !== 'string' || !Number.isInteger(f.index)) bad('a survey file record is damaged');
+  for (const r of b.rasters) {
+    const g = r?.grid;
+    if (!g || !ArrayBuffer.isView(g.data) || !Number.isInteger(g.width) || !Number.isInteger(g.height) || g.width < 0 || g.height < 0 || g.data.length !== g.width * g.height || !(g.cellSize > 0)) bad('a raster record is damaged');
+  }
+  for (const e of b.edits) if (typeof e?.key !== 'string' || !Number.isFinite(e.x) || !Number.isFinite(e.y)) bad('a correction record is damaged');
+  if (p.run) {
+    const t = b.trees?.trees;
+    if (!t || !b.outlines || b.rasters.length < 3) bad('the results are missing a part');
+    if (!Number.isInteger(t.count) || t.count < 0 || typeof t.columns !== 'object' || t.columns === null) bad('the tree table is damaged');
+    for (const col of Object.values(t.columns)) if (!(col instanceof Float64Array) || col.length !== t.count) bad('a tree table column has the wrong length');
+    const o = b.outlines.outlines;
+    if (!(o?.treeRingStart instanceof Uint32Array) || o.treeRingStart.length !== t.count + 1) bad('the crown outlines do not match the tree table');
+  }
 }
 
 /**

@@ -85,4 +85,26 @@ describe('project file', () => {
     expect(await other.listProjects()).toEqual([]);
     store.close(); other.close();
   });
+
+  it('refuses a well-formed file whose records have the wrong shape', async () => {
+    const { store, p } = await seeded();
+    const good = new Uint8Array(await (await exportProject(store, p.id)).arrayBuffer());
+    const len = new DataView(good.buffer).getUint32(12, true);
+    const manifest = JSON.parse(new TextDecoder().decode(good.subarray(16, 16 + len))) as { trees: { trees: { count: number } } };
+    // Rewrites the manifest with a tree count that no column matches, keeping the data block as it was.
+    const remade = (m: unknown) => {
+      const text = new TextEncoder().encode(JSON.stringify(m));
+      const head = new Uint8Array(16);
+      head.set(good.subarray(0, 8));
+      new DataView(head.buffer).setUint32(8, 1, true);
+      new DataView(head.buffer).setUint32(12, text.length, true);
+      const pad = new Uint8Array((8 - ((16 + text.length) % 8)) % 8);
+      const dataStart = 16 + len + ((8 - ((16 + len) % 8)) % 8);
+      return new Blob([head, text, pad, good.subarray(dataStart)]);
+    };
+    expect((await parseProjectFile(remade(manifest))).trees!.trees.count).toBe(3); // the rewrite itself keeps a good file good
+    manifest.trees.trees.count = 5;
+    await expect(parseProjectFile(remade(manifest))).rejects.toThrow(/wrong length/);
+    store.close();
+  });
 });

@@ -5,12 +5,15 @@ import { emptyColumns, type CrownOutlines } from '../../lib/trees/table.js';
 let dbCount = 0;
 export const freshName = (): string => `field-test-${++dbCount}-${Math.random().toString(36).slice(2)}`;
 
-export function outlines(): CrownOutlines {
+/** One ring for the first tree, none for the others (treeRingStart has count + 1 entries, as the table type says). */
+export function outlines(count = 1): CrownOutlines {
+  const treeRingStart = new Uint32Array(count + 1).fill(1);
+  treeRingStart[0] = 0;
   return {
     coords: new Float64Array([0, 0, 1, 0, 1, 1, 0, 0]),
     ringStart: new Uint32Array([0, 4]),
     ringKind: new Uint8Array([0]),
-    treeRingStart: new Uint32Array([0, 1]),
+    treeRingStart,
   };
 }
 
@@ -25,7 +28,7 @@ export function run(count: number, height: number): StoredRun {
   const grid = { width: 2, height: 2, cellSize: 1, originX: 0, originY: 2 };
   return {
     trees: { count, columns, profileLayerM: 1, profileLayers: 1, profiles: new Uint32Array(count), returnHistogram: new Uint32Array(count * 15), hasReturns: true, hasRgb: false },
-    outlines: outlines(),
+    outlines: outlines(count),
     chm: { ...grid, data: new Float32Array([height, 0, 0, 0]) },
     dtm: { ...grid, data: new Float32Array(4) },
     labels: { ...grid, data: new Int32Array([1, 0, 0, 0]) },
