@@ -3,12 +3,14 @@
  * its variants and prints detection precision/recall/F1, height RMSE and the
  * median crown-area error against the generator's truth.
  *   node dist/bench/accuracy.js [park|orchard|canopy ...]
+ * CROWNTALLY_OPTIONS='{"smoothSigmaM":0.5}' runs it with other options.
  */
 import { generateSurvey, type DemoSurveyKind } from '../demo/index.js';
 import { evaluateDetections, type Evaluation } from '../demo/evaluate.js';
 import { photogrammetricLike, toUsSurveyFeet, unclassified } from '../demo/variants.js';
 import { bufferSource } from '../lib/io/sources.js';
 import { tally } from '../lib/pipeline.js';
+import type { TallyOptions } from '../lib/options.js';
 import { nodeLazPerf } from '../lib/node/laz-perf.js';
 
 export interface AccuracyRow { scene: string; variant: string; trees: number; ev: Evaluation }
@@ -17,7 +19,8 @@ export async function accuracyOf(kind: DemoSurveyKind, variant: 'as made' | 'unc
   const { las, truth } = generateSurvey(kind, { seed });
   const bytes = variant === 'unclassified' ? await unclassified(las) : variant === 'US survey feet' ? await toUsSurveyFeet(las)
     : variant === 'photogrammetric' ? await photogrammetricLike(las) : las;
-  const r = await tally([bufferSource(bytes, `${kind}.las`)], { lazPerf: nodeLazPerf() });
+  const options = process.env['CROWNTALLY_OPTIONS'] ? JSON.parse(process.env['CROWNTALLY_OPTIONS']) as Partial<TallyOptions> : {};
+  const r = await tally([bufferSource(bytes, `${kind}.las`)], { lazPerf: nodeLazPerf(), options });
   const t = r.trees;
   const k = r.crs.unitM;
   const ev = evaluateDetections(truth, {

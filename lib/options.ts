@@ -27,7 +27,12 @@ export interface TallyOptions {
   crownFloorFraction: number;
   /** A cell joins a crown only within this distance (m) of the top; 'auto' = 1.5 window diameters at the top's height, at least 3 m (lib/trees/crowns.ts). */
   crownReachM: number | 'auto';
-  /** Gaussian smoothing of the CHM for treetop detection, sigma in metres; 0 turns it off. */
+  /**
+   * Gaussian smoothing of the CHM used to find treetops (crowns and heights use the
+   * unsmoothed CHM and the points), sigma in metres; 0 turns it off. Default 0.3 m: enough
+   * to merge the small bumps of a rough crown surface into one top (common practice),
+   * too little to merge neighbouring trees.
+   */
   smoothSigmaM: number;
   /** Fill dropouts inside crowns (pit filling). */
   fillPits: boolean;
@@ -49,7 +54,7 @@ export const DEFAULT_OPTIONS: Readonly<TallyOptions> = Object.freeze({
   window: 'combined',
   crownFloorFraction: 0.3,
   crownReachM: 'auto',
-  smoothSigmaM: 0,
+  smoothSigmaM: 0.3,
   fillPits: true,
   dropOverlap: true,
   ground: 'auto',
