@@ -98,6 +98,12 @@ describe('field app in Chromium', () => {
     // The service worker installs and precaches on first load.
     const ready = await page.evaluate(async () => { const r = await navigator.serviceWorker.ready; return !!r.active; });
     expect(ready).toBe(true);
+    // The browser-side recording must see what the server saw, the service worker's precache
+    // fetches included; otherwise "no request left the origin" below would prove nothing.
+    await page.waitForTimeout(500);
+    const seenPaths = new Set(seen.filter((u) => u.startsWith(origin)).map((u) => new URL(u).pathname));
+    expect(server.requests.length).toBeGreaterThan(3);
+    expect(server.requests.filter((p) => !seenPaths.has(p))).toEqual([]);
     await page.locator('[data-demo="park"]').waitFor();
     await shot('01-home');
   });
