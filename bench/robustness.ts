@@ -18,10 +18,10 @@ async function main(): Promise<void> {
   const shapes: Record<string, { found: number; of: number }> = {};
   let f1sum = 0;
   for (const spec of scenes) {
-    const { trees, truth, ev, byShape } = await scoreScene(spec, options);
+    const { trees, truth, ev, byShape, falseBy } = await scoreScene(spec, options);
     f1sum += ev.f1;
     const sh = Object.entries(byShape).map(([k, v]) => { const a = (shapes[k] ??= { found: 0, of: 0 }); a.found += v.found; a.of += v.of; return `${k} ${v.found}/${v.of}`; }).join(', ');
-    console.log(`${spec.name.padEnd(26)} ${String(trees).padStart(5)}  ${String(truth).padStart(5)}  ${String(ev.falsePositives).padStart(3)}  ${String(ev.missed).padStart(4)}  ${ev.precision.toFixed(3)}  ${ev.recall.toFixed(3)}   ${ev.f1.toFixed(3)}  ${ev.heightRmseM.toFixed(2).padStart(7)}   ${(ev.medianCrownAreaErrorFraction * 100).toFixed(1).padStart(5)}%   ${sh}`);
+    console.log(`${spec.name.padEnd(26)} ${String(trees).padStart(5)}  ${String(truth).padStart(5)}  ${String(ev.falsePositives).padStart(3)}  ${String(ev.missed).padStart(4)}  ${ev.precision.toFixed(3)}  ${ev.recall.toFixed(3)}   ${ev.f1.toFixed(3)}  ${ev.heightRmseM.toFixed(2).padStart(7)}   ${(ev.medianCrownAreaErrorFraction * 100).toFixed(1).padStart(5)}%   ${sh}; FP near: ${Object.entries(falseBy).map(([k, v]) => `${k} ${v}`).join(', ') || '-'}`);
   }
   console.log(`mean F1 ${(f1sum / scenes.length).toFixed(3)}; found by shape: ${Object.entries(shapes).map(([k, v]) => `${k} ${(v.found / v.of).toFixed(2)}`).join(', ')}`);
 }

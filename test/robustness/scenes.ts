@@ -32,8 +32,11 @@ type Kind = 'tree' | 'shrub' | 'hedge' | 'car' | 'roof';
 
 /** A sphere (rz may differ from r: a spheroid) of one object; `cap` cuts its top flat (m above the datum). */
 interface Blob { cx: number; cy: number; cz: number; r: number; rz: number; cap: number; obj: number }
-/** An axis-aligned solid: box, or a gable along x (ridge at cy) when ridge > eave. */
-interface Solid { x0: number; y0: number; x1: number; y1: number; eave: number; ridge: number; obj: number }
+/**
+ * An axis-aligned solid: box, or a gable along x (ridge at cy) when ridge > eave. A vehicle
+ * (`onGround`) stands on the terrain: eave and ridge are then heights above the ground under each point.
+ */
+interface Solid { x0: number; y0: number; x1: number; y1: number; eave: number; ridge: number; obj: number; onGround?: (x: number, y: number) => number }
 
 interface Obj { kind: Kind; tree: number }
 
@@ -53,7 +56,13 @@ export interface SceneSpec {
 
 export interface RobustTruthTree extends TruthTree { shape: string }
 
-export interface RobustSurvey { las: Uint8Array; trees: RobustTruthTree[]; pointCount: number }
+export interface RobustSurvey {
+  las: Uint8Array;
+  trees: RobustTruthTree[];
+  pointCount: number;
+  /** Every placed object (trees by shape, and the clutter), its footprint centre in CRS metres: for reading false positives. */
+  objects: Array<{ kind: string; x: number; y: number }>;
+}
 
 const ORIGIN_X = 512_000, ORIGIN_Y = 5_402_000;
 
@@ -165,9 +174,8 @@ function buildScene(spec: SceneSpec): Scene {
     const p = place(3, 100, 1);
     if (!p) return;
     const obj = s.object('car', '');
-    const g = ground(p[0], p[1]);
     const L = van ? 5.5 : 4.4, Wd = van ? 2.0 : 1.8, Hc = van ? 2.6 : 1.5;
-    s.solids.push({ x0: p[0] - L / 2, x1: p[0] + L / 2, y0: p[1] - Wd / 2, y1: p[1] + Wd / 2, eave: g + Hc, ridge: g + Hc, obj });
+    s.solids.push({ x0: p[0] - L / 2, x1: p[0] + L / 2, y0: p[1] - Wd / 2, y1: p[1] + Wd / 2, eave: Hc, ridge: Hc, obj, onGround: ground });
   };
   const roof = (pitched: boolean) => {
     const p = place(8, 200, 1);
@@ -239,6 +247,7 @@ function blobBottom(b: Blob, x: number, y: number): number {
 }
 function solidTop(s: Solid, x: number, y: number): number {
   if (x < s.x0 || x > s.x1 || y < s.y0 || y > s.y1) return NaN;
+  if (s.onGround) return s.onGround(x, y) + s.eave;
   if (s.ridge === s.eave) return s.eave;
   const half = (s.y1 - s.y0) / 2, cy = (s.y0 + s.y1) / 2;
   return s.eave + (s.ridge - s.eave) * (1 - Math.abs(y - cy) / half);
@@ -387,10 +396,15 @@ export function robustSurvey(spec: SceneSpec): RobustSurvey {
     pointFormat: 6, scale: [0.001, 0.001, 0.001], offset: [ORIGIN_X, ORIGIN_Y, 0], wkt: utmWkt(33),
     systemId: 'OTHER', software: 'Crowntally robustness', creationDay: 100, creationYear: 2025,
   });
-  return { las, trees: truthOf(s, idx), pointCount: n };
+  const objects = s.objs.map((o, k) => ({ kind: o.tree >= 0 ? s.shapes[o.tree]! : o.kind, x: ORIGIN_X + s.taken[k]![0], y: ORIGIN_Y + s.taken[k]![1] }));
+  return { las, trees: truthOf(s, idx), pointCount: n, objects };
 }
 
-export interface RobustRow { spec: SceneSpec; trees: number; truth: number; ev: Evaluation; byShape: Record<string, { found: number; of: number }> }
+export interface RobustRow {
+  spec: SceneSpec; trees: number; truth: number; ev: Evaluation; byShape: Record<string, { found: number; of: number }>;
+  /** False positives by the kind of the nearest placed object. */
+  falseBy: Record<string, number>;
+}
 
 /** Runs the whole job on one invented scene and scores it against the truth. */
 export async function scoreScene(spec: SceneSpec, options: Partial<TallyOptions> = {}): Promise<RobustRow> {
@@ -410,7 +424,14 @@ export async function scoreScene(spec: SceneSpec, options: Partial<TallyOptions>
     const e = (byShape[tr.shape] ??= { found: 0, of: 0 });
     e.of++; e.found += hit[k]!;
   });
-  return { spec, trees: t.count, truth: ev.matched + ev.missed, ev, byShape };
+  const falseBy: Record<string, number> = {};
+  for (let q = 0; q < t.count; q++) {
+    if (ev.truthOfDetection[q]! >= 0) continue;
+    let best = 'nothing', bd = Infinity;
+    for (const o of survey.objects) { const d = Math.hypot(o.x - t.columns.x[q]!, o.y - t.columns.y[q]!); if (d < bd) { bd = d; best = o.kind; } }
+    falseBy[best] = (falseBy[best] ?? 0) + 1;
+  }
+  return { spec, trees: t.count, truth: ev.matched + ev.missed, ev, byShape, falseBy };
 }
 
 const BASE = { widthM: 80, heightM: 80, slopeDeg: 0, classes: 'classified' as const };
