@@ -82,25 +82,49 @@ export function growCrowns(chm: Grid, tops: Treetops, opts: CrownOptions): Grid<
   }
 
   // Level range over crown-eligible cells: level 0 = highest.
+  const minH = opts.minHeightM;
   let hiH = -Infinity, loH = Infinity;
   for (let i = 0; i < N; i++) {
     const h = data[i]!;
-    if (h >= opts.minHeightM) { if (h > hiH) hiH = h; if (h < loH) loH = h; }
+    if (h >= minH) { if (h > hiH) hiH = h; if (h < loH) loH = h; }
   }
   if (!(hiH >= loH)) return out;
   let step = LEVEL_M;
   if ((hiH - loH) / step + 1 > MAX_LEVELS) step = (hiH - loH) / (MAX_LEVELS - 1);
   const levels = Math.floor((hiH - loH) / step) + 1;
-  const levelOf = (h: number) => Math.min(levels - 1, Math.floor((hiH - h) / step));
 
-  const head = new Int32Array(levels).fill(-1);
-  const tail = new Int32Array(levels).fill(-1);
-  const next = new Int32Array(N);
-  const push = (i: number, lev: number) => {
-    next[i] = -1;
-    if (tail[lev]! < 0) head[lev] = i; else next[tail[lev]!] = i;
-    tail[lev] = i;
-  };
+  // One linear pass makes `labels` the flood's whole per-cell state, so the
+  // inner loop reads one 4-byte word per neighbour (the flood visits cells in
+  // height order, scattered over the grid: memory traffic is its cost):
+  //   > 0  labelled (crown k + 1)
+  //   = 0  never crown (below minHeightM or NaN)
+  //   < 0  eligible, not reached yet: -(own level + 1)
+  // `count` is the number of cells of each own level: a cell enters the queue
+  // once, at level max(own level, flood level), so each level's cells that
+  // are queued before the flood gets there fit in a slot of that size.
+  const count = new Int32Array(levels + 1);
+  let eligible = 0;
+  for (let i = 0; i < N; i++) {
+    const h = data[i]!;
+    if (h >= minH) {
+      let lev = Math.floor((hiH - h) / step);
+      if (lev > levels - 1) lev = levels - 1;
+      labels[i] = -lev - 1;
+      count[lev + 1]!++;
+      eligible++;
+    }
+  }
+  // Hierarchical queue (Meyer 1994) stored as one array cut into per-level
+  // FIFO slots (counting-sort offsets) instead of linked lists: pushes to
+  // future levels are sequential writes at a few hundred moving ends, pops
+  // sequential reads. Cells queued at the flood level itself (own level, or a
+  // higher cell joining the current level) go to `now`, drained after the
+  // level's slot; both are FIFO, so the order is that of one FIFO per level.
+  for (let l = 1; l <= levels; l++) count[l]! += count[l - 1]!;
+  const start = count; // level l's slot: start[l] .. start[l + 1]
+  const fill = start.slice(0, levels); // next free index of each slot
+  const queue = new Int32Array(eligible);
+  const now = new Int32Array(eligible);
 
   for (let k = 0; k < n; k++) {
     const c = tops.col[k]!, r = tops.row[k]!;
@@ -108,43 +132,48 @@ export function growCrowns(chm: Grid, tops: Treetops, opts: CrownOptions): Grid<
       throw new CrowntallyError('INTERNAL', `treetop ${k} at cell (${c}, ${r}) lies outside the ${W} x ${H} CHM`);
     }
     const i = r * W + c;
-    if (labels[i] !== 0 || !(data[i]! >= opts.minHeightM)) continue; // duplicate or sub-threshold top: no crown
+    const v = labels[i]!;
+    if (v >= 0) continue; // duplicate or sub-threshold top: no crown
     labels[i] = k + 1;
-    push(i, levelOf(data[i]!));
+    queue[fill[-v - 1]!++] = i;
   }
 
-  const minH = opts.minHeightM;
-  let cur = 0; // flood level: pushes never go above it, so the scan only moves down
-  while (cur < levels) {
-    const i = head[cur]!;
-    if (i < 0) { tail[cur] = -1; cur++; continue; }
-    head[cur] = next[i]!;
-    if (head[cur]! < 0) tail[cur] = -1;
-    const lab = labels[i]!;
-    const k = lab - 1;
-    const c = i % W, r = (i - c) / W;
-    const tc = tops.col[k]!, tr = tops.row[k]!;
-    const fl = floorH[k]!, rr = reach2[k]!;
-    const level = cur;
-    for (let d = 0; d < 4; d++) {
-      let nc = c, nr = r;
-      if (d === 0) nc++; else if (d === 1) nr--; else if (d === 2) nc--; else nr++;
-      if (nc < 0 || nc >= W || nr < 0 || nr >= H) continue;
-      const j = nr * W + nc;
-      if (labels[j] !== 0) continue;
-      const h = data[j]!;
-      if (!(h >= minH) || !(h > fl || fl === 0)) continue;
-      const dc = nc - tc, dr = nr - tr;
-      if (dc * dc + dr * dr > rr) continue;
-      labels[j] = lab;
-      // A higher neighbour than the flood level joins the current level (hierarchical queue rule).
-      let lev = Math.floor((hiH - h) / step);
-      if (lev > levels - 1) lev = levels - 1;
-      if (lev < level) lev = level;
-      next[j] = -1;
-      if (tail[lev]! < 0) head[lev] = j; else next[tail[lev]!] = j;
-      tail[lev] = j;
+  const tcol = tops.col, trow = tops.row;
+  const last = N - W;
+  for (let cur = 0; cur < levels; cur++) {
+    let sp = start[cur]!;
+    const se = fill[cur]!;
+    let nh = 0, nt = 0;
+    for (;;) {
+      let i: number;
+      if (sp < se) i = queue[sp++]!;
+      else if (nh < nt) i = now[nh++]!;
+      else break;
+      const lab = labels[i]!;
+      const k = lab - 1;
+      const fl = floorH[k]!, rr = reach2[k]!;
+      const c = i % W;
+      const tc = tcol[k]!, tr = trow[k]!;
+      const r = (i - c) / W;
+      for (let d = 0; d < 4; d++) {
+        let j: number, nc = c, nr = r;
+        if (d === 0) { if (c === W - 1) continue; j = i + 1; nc++; }
+        else if (d === 1) { if (i < W) continue; j = i - W; nr--; }
+        else if (d === 2) { if (c === 0) continue; j = i - 1; nc--; }
+        else { if (i >= last) continue; j = i + W; nr++; }
+        const v = labels[j]!;
+        if (v >= 0) continue; // labelled, or never crown
+        if (fl !== 0 && !(data[j]! > fl)) continue;
+        const dc = nc - tc, dr = nr - tr;
+        if (dc * dc + dr * dr > rr) continue;
+        labels[j] = lab;
+        // A higher neighbour than the flood level joins the current level (hierarchical queue rule).
+        const lev = -v - 1;
+        if (lev <= cur) now[nt++] = j; else queue[fill[lev]!++] = j;
+      }
     }
   }
+  // Eligible cells no crown reached are not crown.
+  for (let i = 0; i < N; i++) if (labels[i]! < 0) labels[i] = 0;
   return out;
 }
