@@ -34,6 +34,11 @@ export interface TallyOptions {
    * too little to merge neighbouring trees.
    */
   smoothSigmaM: number;
+  /**
+   * Smallest prominence (m) of a treetop: a local maximum joined to a higher one by a path that
+   * never dips this far is a bump of the same crown (lib/trees/treetops.ts). 0 turns it off.
+   */
+  topProminenceM: number;
   /** Fill dropouts inside crowns (pit filling). */
   fillPits: boolean;
   /** Leave out points flagged as overlap (formats 6-10). */
@@ -55,6 +60,7 @@ export const DEFAULT_OPTIONS: Readonly<TallyOptions> = Object.freeze({
   crownFloorFraction: 0.3,
   crownReachM: 'auto',
   smoothSigmaM: 0.3,
+  topProminenceM: 0,
   fillPits: true,
   dropOverlap: true,
   ground: 'auto',
@@ -88,6 +94,7 @@ export function resolveOptions(partial: Partial<TallyOptions> = {}): TallyOption
   if (!(o.crownFloorFraction >= 0 && o.crownFloorFraction < 1)) bad(`crownFloorFraction must be in [0, 1) (got ${o.crownFloorFraction})`);
   if (o.crownReachM !== 'auto' && !(o.crownReachM > 0 && o.crownReachM <= 100)) bad(`crownReachM must be 'auto' or 0-100 m (got ${o.crownReachM})`);
   if (!(o.smoothSigmaM >= 0 && o.smoothSigmaM <= 10)) bad(`smoothSigmaM must be between 0 and 10 m (got ${o.smoothSigmaM})`);
+  if (!(o.topProminenceM >= 0 && o.topProminenceM <= 10)) bad(`topProminenceM must be between 0 and 10 m (got ${o.topProminenceM})`);
   if (!(o.profileLayerM >= 0.1 && o.profileLayerM <= 10)) bad(`profileLayerM must be between 0.1 and 10 m (got ${o.profileLayerM})`);
   if (!(o.pointCacheMiB >= 0)) bad(`pointCacheMiB must be 0 or more (got ${o.pointCacheMiB})`);
   if (!(o.maxGridCells >= 1)) bad(`maxGridCells must be positive (got ${o.maxGridCells})`);

@@ -16,6 +16,11 @@ export interface NonTreeOptions {
   singleReturnCount?: Grid<Uint32Array>;
   /** A crown of at least 20 returns of which this share or more are single returns is a solid surface. Default 0.95. */
   maxSingleShare?: number;
+  /**
+   * A crown of at least 20 returns of which this share or more come from pulses that returned
+   * several times is foliage, however smooth its top: the shape tests leave it in. Default 0.4.
+   */
+  minFoliageMultiShare?: number;
   /** True when the survey carries class 6 at all: then the class decides, not the shape. */
   hasBuildingClass?: boolean;
   /** CRS unit to metres. Default 1. */
@@ -47,9 +52,10 @@ export interface NonTreeResult {
  * Leaves out candidate crowns that are roofs.
  *
  * With building returns (ASPRS class 6) in the survey, a crown whose
- * returns are mostly class 6 is a roof. Without them, shape decides: roofs
- * are smooth planes (flat, or pitched faces meeting at ridges), tree crowns
- * are rough. Two tests, either one rejects:
+ * returns are mostly class 6 is a roof. Otherwise (and always for crowns
+ * the class does not mark: vehicles, decks and sheds left unclassified have
+ * no class of their own) shape decides: roofs are smooth planes (flat, or
+ * pitched faces meeting at ridges), tree crowns are rough. Either test rejects:
  *  - whole crown: a least-squares plane z = a + b x + c y over the crown's
  *    cells leaves an RMS residual below maxPlaneRmsM (flat or single tilted
  *    face), for crowns of at least minPlaneAreaM2 and 5 cells (narrow decks
@@ -62,7 +68,11 @@ export interface NonTreeResult {
  *  - solid surface (when single-return counts are given): a laser pulse
  *    that meets a roof or deck returns once, one that meets foliage often
  *    returns several times, so a crown of at least 20 returns that are
- *    nearly all single returns (maxSingleShare) is not a tree (common practice).
+ *    nearly all single returns (maxSingleShare) is not a tree (common practice);
+ *    and the other way round, a crown whose returns come largely from pulses
+ *    that returned several times (minFoliageMultiShare) is foliage even when
+ *    its top is smooth (a flat-topped or clipped crown): the shape tests
+ *    leave it in. A roof gives multiple returns only along its edges.
  * The stencil reads the surface regardless of labels, so a roof split into
  * several crowns by noise is judged as the roof it is; a small crown
  * that meets a roof crown with no step in the surface is a cut-off piece of
@@ -92,6 +102,7 @@ export function rejectNonTrees(labels: Grid<Int32Array>, tops: Treetops, opts: N
   const byClass = opts.hasBuildingClass === true && !!opts.pointCount && !!opts.buildingCount;
   const bySingles = !!opts.pointCount && !!opts.singleReturnCount;
   const maxSingle = opts.maxSingleShare ?? 0.95;
+  const minFoliage = opts.minFoliageMultiShare ?? 0.4;
 
   // Per crown: cells, planar cells, plane-fit sums (x, y in metres from the top), building and all returns.
   const cells = new Float64Array(n), planar = new Float64Array(n), pts = new Float64Array(n), bld = new Float64Array(n);
@@ -129,15 +140,17 @@ export function rejectNonTrees(labels: Grid<Int32Array>, tops: Treetops, opts: N
 
   const roof = new Uint8Array(n);
   for (let k = 0; k < n; k++) {
-    if (byClass) {
-      roof[k] = pts[k]! > 0 && bld[k]! / pts[k]! >= maxShare ? 1 : 0;
-    } else if (cells[k]! >= 4) {
+    // The building class marks roofs, but vehicles, decks and other solids have no class of their own:
+    // the shape and solid-surface tests still apply to crowns the class does not mark.
+    if (byClass && pts[k]! > 0 && bld[k]! / pts[k]! >= maxShare) roof[k] = 1;
+    else if (bySingles && pts[k]! >= 20 && (pts[k]! - sgl[k]!) / pts[k]! >= minFoliage) roof[k] = 0;
+    else if (cells[k]! >= 4) {
       if (planar[k]! / cells[k]! >= maxPlanar) roof[k] = 1;
       else if (bySingles && pts[k]! >= 20 && sgl[k]! / pts[k]! >= maxSingle) roof[k] = 1;
       else if (cells[k]! >= 5 && cells[k]! * cellM * cellM >= minArea && planeRms(S, k * 9, cells[k]!) < maxRms) roof[k] = 1;
     }
   }
-  if (!byClass) {
+  {
     // Roof fragments: a crown smaller than maxFragmentAreaM2 that meets a roof crown along an edge with
     // no step in the surface (|dz| < tolerance) is a piece of that roof cut off by the flooding.
     const fragment = new Uint8Array(n);

@@ -22,6 +22,13 @@ export interface TreetopOptions {
   window: WindowPreset | WindowTable | number;
   /** CRS unit to metres (0.3048 for international feet). Default 1. */
   unitM?: number;
+  /**
+   * Smallest prominence (m) of a top: how far the surface must drop on every path from it to a
+   * higher cell. 0 (default) keeps every window maximum. See dropShallowTops.
+   */
+  minProminenceM?: number;
+  /** How far (m) from a top the prominence test looks for a higher cell; default: the window diameter at the top's height. */
+  prominenceReachM?: number;
 }
 
 /** Largest search radius in cells; a window beyond it means the cell size is far too small for the trees. */
@@ -120,6 +127,23 @@ export function findTreetops(chm: Grid, opts: TreetopOptions): Treetops {
     mark[r * W + c] = 1;
     order.push(k);
   }
+  let topHeight = (_k: number, c: number, r: number): number => data[r * W + c]!;
+  if ((opts.minProminenceM ?? 0) > 0) {
+    const reach = opts.prominenceReachM;
+    const at = order.map((k) => rows[k]! * W + cols[k]!);
+    const kept = dropShallowTops(data, W, H, at, opts.minProminenceM! / unitM,
+      (h) => (reach !== undefined ? reach : win(h)) / (chm.cellSize * unitM));
+    // A kept top moves to the middle of its summit (see dropShallowTops); its height stays the summit's.
+    const summitH = new Map<number, number>();
+    for (let k = 0; k < order.length; k++) {
+      if (!kept[k]) continue;
+      const j = at[k]!;
+      summitH.set(order[k]!, data[j]!);
+      cols[order[k]!] = j % W; rows[order[k]!] = Math.floor(j / W);
+    }
+    for (let k = order.length - 1; k >= 0; k--) if (!kept[k]) order.splice(k, 1);
+    topHeight = (k, c, r) => summitH.get(k) ?? data[r * W + c]!;
+  }
   const n = order.length;
   const tops: Treetops = {
     count: n,
@@ -130,7 +154,7 @@ export function findTreetops(chm: Grid, opts: TreetopOptions): Treetops {
     const c = cols[order[k]!]!, r = rows[order[k]!]!;
     tops.col[k] = c; tops.row[k] = r;
     tops.x[k] = cellCenterX(chm, c); tops.y[k] = cellCenterY(chm, r);
-    tops.heightM[k] = data[r * W + c]!;
+    tops.heightM[k] = topHeight(order[k]!, c, r);
   }
   return tops;
 }
@@ -181,4 +205,70 @@ function hasMarkedEqual(d: Float32Array, mark: Uint8Array, W: number, H: number,
 /** Disc radius in cells that findTreetops uses for a window diameter (m): at least sqrt(2), the 3x3 neighbourhood. */
 export function discRadiusCells(windowM: number, cellSize: number, unitM = 1): number {
   return Math.min(MAX_RADIUS_CELLS, Math.max(Math.SQRT2, (windowM / 2) / (cellSize * unitM)));
+}
+
+/**
+ * Topographic prominence of each top, tested locally: flooding from the top
+ * over 8-connected cells no lower than (top - minDrop), within `reachCells(h)`
+ * cells of it, a top that reaches a higher cell (or another top of the same
+ * height earlier in the list) sits on the shoulder of a higher summit with
+ * no dip of minDrop between them: a bump on a rough or flat crown top, or a
+ * second leader of one crown, not a tree of its own. Prominence is the
+ * usual topographic measure (common practice); its use to prune treetop
+ * candidates is a form of the saddle-depth tests of CHM segmentation.
+ * Cost: for each top, the cells of its upper cap (within minDrop of it),
+ * at most the disc of the reach. Returns one flag per top, 1 = kept.
+ *
+ * A kept top's cap is its summit: on a flat-topped crown the highest cell
+ * is wherever sampling noise put it, so the top (its entry in `at`) moves
+ * to the cap cell nearest the cap's centroid, the middle of the summit. On
+ * a peaked crown the cap is a small disc round the apex and nothing moves.
+ */
+function dropShallowTops(d: Float32Array, W: number, H: number, at: number[], minDrop: number, reachCells: (h: number) => number): Uint8Array {
+  const n = at.length;
+  const kept = new Uint8Array(n).fill(1);
+  const topAt = new Map<number, number>();
+  at.forEach((i, k) => topAt.set(i, k));
+  const stamp = new Int32Array(W * H);
+  const stack: number[] = [], members: number[] = [];
+  for (let k = 0; k < n; k++) {
+    const i0 = at[k]!, h = d[i0]!, floor = h - minDrop;
+    const c0 = i0 % W, r0 = (i0 - c0) / W;
+    const R = reachCells(h), R2 = R * R;
+    stack.length = 0; stack.push(i0); stamp[i0] = k + 1;
+    members.length = 0;
+    let higher = false, sc = 0, sr = 0;
+    while (stack.length > 0 && !higher) {
+      const j = stack.pop()!;
+      members.push(j);
+      const jc = j % W, jr = (j - jc) / W;
+      sc += jc; sr += jr;
+      for (let dr = -1; dr <= 1 && !higher; dr++) {
+        const nr = jr + dr;
+        if (nr < 0 || nr >= H) continue;
+        for (let dc = -1; dc <= 1; dc++) {
+          const nc = jc + dc;
+          if (nc < 0 || nc >= W) continue;
+          const q = nr * W + nc;
+          if (stamp[q] === k + 1) continue;
+          const v = d[q]!;
+          if (!(v >= floor) || (nc - c0) ** 2 + (nr - r0) ** 2 > R2) continue;
+          if (v > h) { higher = true; break; }
+          if (v === h) { const o = topAt.get(q); if (o !== undefined && o < k) { higher = true; break; } }
+          stamp[q] = k + 1;
+          stack.push(q);
+        }
+      }
+    }
+    if (higher) { kept[k] = 0; continue; }
+    const mc = sc / members.length, mr = sr / members.length;
+    let best = i0, bestD = Infinity;
+    for (const j of members) {
+      const jc = j % W, jr = (j - jc) / W;
+      const dd = (jc - mc) ** 2 + (jr - mr) ** 2;
+      if (dd < bestD || (dd === bestD && j < best)) { bestD = dd; best = j; }
+    }
+    at[k] = best;
+  }
+  return kept;
 }
