@@ -71,14 +71,17 @@ export function growCrowns(chm: Grid, tops: Treetops, opts: CrownOptions): Grid<
   if (n === 0) return out;
 
   const cellM = chm.cellSize * unitM;
-  const floorH = new Float32Array(n);
-  const reach2 = new Float64Array(n); // squared, in cells
+  // What the flood needs of a crown, side by side (one cache line per crown):
+  // floor height (float32, as the CHM), squared reach in cells, top column, top row.
+  const crown = new Float64Array(4 * n);
   const win = opts.reachM === 'auto' ? windowFunction(opts.window ?? 'combined') : null;
   for (let k = 0; k < n; k++) {
-    floorH[k] = opts.floorFraction * tops.heightM[k]!;
     const rM = win ? reachFromWindow(win(tops.heightM[k]!)) : (opts.reachM as number);
     const rc = rM / cellM;
-    reach2[k] = rc * rc;
+    crown[4 * k] = Math.fround(opts.floorFraction * tops.heightM[k]!);
+    crown[4 * k + 1] = rc * rc;
+    crown[4 * k + 2] = tops.col[k]!;
+    crown[4 * k + 3] = tops.row[k]!;
   }
 
   // Level range over crown-eligible cells: level 0 = highest.
@@ -138,7 +141,6 @@ export function growCrowns(chm: Grid, tops: Treetops, opts: CrownOptions): Grid<
     queue[fill[-v - 1]!++] = i;
   }
 
-  const tcol = tops.col, trow = tops.row;
   const last = N - W;
   for (let cur = 0; cur < levels; cur++) {
     let sp = start[cur]!;
@@ -150,10 +152,9 @@ export function growCrowns(chm: Grid, tops: Treetops, opts: CrownOptions): Grid<
       else if (nh < nt) i = now[nh++]!;
       else break;
       const lab = labels[i]!;
-      const k = lab - 1;
-      const fl = floorH[k]!, rr = reach2[k]!;
+      const q = (lab - 1) << 2;
+      const fl = crown[q]!, rr = crown[q + 1]!, tc = crown[q + 2]!, tr = crown[q + 3]!;
       const c = i % W;
-      const tc = tcol[k]!, tr = trow[k]!;
       const r = (i - c) / W;
       for (let d = 0; d < 4; d++) {
         let j: number, nc = c, nr = r;
