@@ -39,6 +39,8 @@ export interface TallyOptions {
    * never dips this far is a bump of the same crown (lib/trees/treetops.ts). 0 turns it off.
    */
   topProminenceM: number;
+  /** The same as a fraction of the top's height (0-0.5); the larger of the two applies. 0 turns it off. */
+  topProminenceFraction: number;
   /** Fill dropouts inside crowns (pit filling). */
   fillPits: boolean;
   /** Leave out points flagged as overlap (formats 6-10). */
@@ -61,6 +63,7 @@ export const DEFAULT_OPTIONS: Readonly<TallyOptions> = Object.freeze({
   crownReachM: 'auto',
   smoothSigmaM: 0.3,
   topProminenceM: 0,
+  topProminenceFraction: 0.015,
   fillPits: true,
   dropOverlap: true,
   ground: 'auto',
@@ -95,6 +98,7 @@ export function resolveOptions(partial: Partial<TallyOptions> = {}): TallyOption
   if (o.crownReachM !== 'auto' && !(o.crownReachM > 0 && o.crownReachM <= 100)) bad(`crownReachM must be 'auto' or 0-100 m (got ${o.crownReachM})`);
   if (!(o.smoothSigmaM >= 0 && o.smoothSigmaM <= 10)) bad(`smoothSigmaM must be between 0 and 10 m (got ${o.smoothSigmaM})`);
   if (!(o.topProminenceM >= 0 && o.topProminenceM <= 10)) bad(`topProminenceM must be between 0 and 10 m (got ${o.topProminenceM})`);
+  if (!(o.topProminenceFraction >= 0 && o.topProminenceFraction <= 0.5)) bad(`topProminenceFraction must be between 0 and 0.5 (got ${o.topProminenceFraction})`);
   if (!(o.profileLayerM >= 0.1 && o.profileLayerM <= 10)) bad(`profileLayerM must be between 0.1 and 10 m (got ${o.profileLayerM})`);
   if (!(o.pointCacheMiB >= 0)) bad(`pointCacheMiB must be 0 or more (got ${o.pointCacheMiB})`);
   if (!(o.maxGridCells >= 1)) bad(`maxGridCells must be positive (got ${o.maxGridCells})`);

@@ -247,7 +247,7 @@ export async function tallyClouds(clouds: PointCloud[], options: TallyOptions, r
   const chmTops = sigmaCells > 0 ? gaussianSmooth(chm, sigmaCells) : chm;
 
   progress.report('treetops', 0);
-  let tops: Treetops = findTreetops(chmTops, { minHeightM: options.minHeightM, window: options.window, unitM, minProminenceM: options.topProminenceM });
+  let tops: Treetops = findTreetops(chmTops, { minHeightM: options.minHeightM, window: options.window, unitM, minProminenceM: options.topProminenceM, minProminenceFraction: options.topProminenceFraction });
   progress.report('crowns', 0);
   let labels = growCrowns(chm, tops, {
     minHeightM: options.minHeightM, floorFraction: options.crownFloorFraction,

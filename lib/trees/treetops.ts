@@ -27,6 +27,8 @@ export interface TreetopOptions {
    * higher cell. 0 (default) keeps every window maximum. See dropShallowTops.
    */
   minProminenceM?: number;
+  /** The same as a fraction of the top's height; the larger of the two applies. Default 0. */
+  minProminenceFraction?: number;
   /** How far (m) from a top the prominence test looks for a higher cell; default: the window diameter at the top's height. */
   prominenceReachM?: number;
 }
@@ -128,10 +130,14 @@ export function findTreetops(chm: Grid, opts: TreetopOptions): Treetops {
     order.push(k);
   }
   let topHeight = (_k: number, c: number, r: number): number => data[r * W + c]!;
-  if ((opts.minProminenceM ?? 0) > 0) {
+  const promM = opts.minProminenceM ?? 0, promF = opts.minProminenceFraction ?? 0;
+  if (!(promM >= 0 && promF >= 0 && promF < 1)) {
+    throw new CrowntallyError('BAD_OPTIONS', `minProminenceM must be 0 or more and minProminenceFraction in [0, 1) (got ${promM}, ${promF})`);
+  }
+  if (promM > 0 || promF > 0) {
     const reach = opts.prominenceReachM;
     const at = order.map((k) => rows[k]! * W + cols[k]!);
-    const kept = dropShallowTops(data, W, H, at, opts.minProminenceM! / unitM,
+    const kept = dropShallowTops(data, W, H, at, (h) => Math.max(promM, promF * h),
       (h) => (reach !== undefined ? reach : win(h)) / (chm.cellSize * unitM));
     // A kept top moves to the middle of its summit (see dropShallowTops); its height stays the summit's.
     const summitH = new Map<number, number>();
@@ -142,6 +148,8 @@ export function findTreetops(chm: Grid, opts: TreetopOptions): Treetops {
       cols[order[k]!] = j % W; rows[order[k]!] = Math.floor(j / W);
     }
     for (let k = order.length - 1; k >= 0; k--) if (!kept[k]) order.splice(k, 1);
+    // Moved tops keep the promised order: north to south, then west to east.
+    order.sort((a, b) => (rows[a]! - rows[b]!) || (cols[a]! - cols[b]!));
     topHeight = (k, c, r) => summitH.get(k) ?? data[r * W + c]!;
   }
   const n = order.length;
@@ -209,7 +217,7 @@ export function discRadiusCells(windowM: number, cellSize: number, unitM = 1): n
 
 /**
  * Topographic prominence of each top, tested locally: flooding from the top
- * over 8-connected cells no lower than (top - minDrop), within `reachCells(h)`
+ * over 8-connected cells no lower than (top - minDrop(h)), within `reachCells(h)`
  * cells of it, a top that reaches a higher cell (or another top of the same
  * height earlier in the list) sits on the shoulder of a higher summit with
  * no dip of minDrop between them: a bump on a rough or flat crown top, or a
@@ -224,7 +232,7 @@ export function discRadiusCells(windowM: number, cellSize: number, unitM = 1): n
  * to the cap cell nearest the cap's centroid, the middle of the summit. On
  * a peaked crown the cap is a small disc round the apex and nothing moves.
  */
-function dropShallowTops(d: Float32Array, W: number, H: number, at: number[], minDrop: number, reachCells: (h: number) => number): Uint8Array {
+function dropShallowTops(d: Float32Array, W: number, H: number, at: number[], minDrop: (h: number) => number, reachCells: (h: number) => number): Uint8Array {
   const n = at.length;
   const kept = new Uint8Array(n).fill(1);
   const topAt = new Map<number, number>();
@@ -232,7 +240,7 @@ function dropShallowTops(d: Float32Array, W: number, H: number, at: number[], mi
   const stamp = new Int32Array(W * H);
   const stack: number[] = [], members: number[] = [];
   for (let k = 0; k < n; k++) {
-    const i0 = at[k]!, h = d[i0]!, floor = h - minDrop;
+    const i0 = at[k]!, h = d[i0]!, floor = h - minDrop(h);
     const c0 = i0 % W, r0 = (i0 - c0) / W;
     const R = reachCells(h), R2 = R * R;
     stack.length = 0; stack.push(i0); stamp[i0] = k + 1;
@@ -272,3 +280,4 @@ function dropShallowTops(d: Float32Array, W: number, H: number, at: number[], mi
   }
   return kept;
 }
+
