@@ -63,7 +63,7 @@ export const DEFAULT_OPTIONS: Readonly<TallyOptions> = Object.freeze({
   crownReachM: 'auto',
   smoothSigmaM: 0.3,
   topProminenceM: 0,
-  topProminenceFraction: 0.015,
+  topProminenceFraction: 0.0125,
   fillPits: true,
   dropOverlap: true,
   ground: 'auto',
