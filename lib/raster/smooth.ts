@@ -32,32 +32,41 @@ export function gaussianSmooth(g: Grid, sigmaCells: number): Grid {
   const n = w * h;
   // Pass 1 (rows) carries value-weighted sums and weight sums separately so the
   // column pass can renormalise over valid cells only.
+  // Both passes run in row order (the column pass keeps one row of partial
+  // sums per output row), so the grid is read as it lies in memory; the taps
+  // are summed in the same order as a per-cell loop, so the result is the
+  // same to the bit. Mirrored indices are needed only within `radius` of an edge.
   const vs = new Float64Array(n), ws = new Float64Array(n);
   for (let r = 0; r < h; r++) {
     const base = r * w;
     for (let c = 0; c < w; c++) {
       let sv = 0, sw = 0;
+      const inner = c >= radius && c + radius < w;
       for (let i = -radius; i <= radius; i++) {
-        const v = data[base + mirror(c + i, w)];
-        if (Number.isNaN(v)) continue;
-        const kw = kernel[i + radius];
+        const v = data[base + (inner ? c + i : mirror(c + i, w))]!;
+        if (v !== v) continue; // NaN
+        const kw = kernel[i + radius]!;
         sv += kw * v; sw += kw;
       }
       vs[base + c] = sv; ws[base + c] = sw;
     }
   }
   const out = new Float32Array(n);
-  for (let c = 0; c < w; c++) {
-    for (let r = 0; r < h; r++) {
-      const k = r * w + c;
-      if (Number.isNaN(data[k])) { out[k] = NaN; continue; }
-      let sv = 0, sw = 0;
-      for (let i = -radius; i <= radius; i++) {
-        const j = mirror(r + i, h) * w + c;
-        const kw = kernel[i + radius];
-        sv += kw * vs[j]; sw += kw * ws[j];
-      }
-      out[k] = sw > 0 ? sv / sw : NaN;
+  const sv = new Float64Array(w), sw = new Float64Array(w);
+  for (let r = 0; r < h; r++) {
+    sv.fill(0); sw.fill(0);
+    const inner = r >= radius && r + radius < h;
+    for (let i = -radius; i <= radius; i++) {
+      const jb = (inner ? r + i : mirror(r + i, h)) * w;
+      const kw = kernel[i + radius]!;
+      for (let c = 0; c < w; c++) { sv[c]! += kw * vs[jb + c]!; sw[c]! += kw * ws[jb + c]!; }
+    }
+    const base = r * w;
+    for (let c = 0; c < w; c++) {
+      const k = base + c;
+      const d = data[k]!;
+      if (d !== d) { out[k] = NaN; continue; }
+      out[k] = sw[c]! > 0 ? sv[c]! / sw[c]! : NaN;
     }
   }
   return { ...g, data: out };
