@@ -144,7 +144,7 @@ export function findTreetops(chm: Grid, opts: TreetopOptions): Treetops {
     for (let k = 0; k < order.length; k++) {
       if (!kept[k]) continue;
       const j = at[k]!;
-      summitH.set(order[k]!, data[j]!);
+      summitH.set(order[k]!, data[rows[order[k]!]! * W + cols[order[k]!]!]!);
       cols[order[k]!] = j % W; rows[order[k]!] = Math.floor(j / W);
     }
     for (let k = order.length - 1; k >= 0; k--) if (!kept[k]) order.splice(k, 1);
@@ -229,8 +229,11 @@ export function discRadiusCells(windowM: number, cellSize: number, unitM = 1): n
  *
  * A kept top's cap is its summit: on a flat-topped crown the highest cell
  * is wherever sampling noise put it, so the top (its entry in `at`) moves
- * to the cap cell nearest the cap's centroid, the middle of the summit. On
- * a peaked crown the cap is a small disc round the apex and nothing moves.
+ * to the cap cell nearest the cap's centroid, the cap re-centred up to
+ * three times while it moves (a mean shift, Fukunaga & Hostetler 1975,
+ * with a flat kernel of the reach). A plateau wider than the reach keeps
+ * its top within a reach of the highest bump. On a
+ * peaked crown the cap is a small disc round the apex and nothing moves.
  */
 function dropShallowTops(d: Float32Array, W: number, H: number, at: number[], minDrop: (h: number) => number, reachCells: (h: number) => number): Uint8Array {
   const n = at.length;
@@ -239,42 +242,60 @@ function dropShallowTops(d: Float32Array, W: number, H: number, at: number[], mi
   at.forEach((i, k) => topAt.set(i, k));
   const stamp = new Int32Array(W * H);
   const stack: number[] = [], members: number[] = [];
-  for (let k = 0; k < n; k++) {
-    const i0 = at[k]!, h = d[i0]!, floor = h - minDrop(h);
-    const c0 = i0 % W, r0 = (i0 - c0) / W;
-    const R = reachCells(h), R2 = R * R;
-    stack.length = 0; stack.push(i0); stamp[i0] = k + 1;
+  let pass = 0;
+  // Floods the cap from `start` over cells >= floor within R2 (squared cells) of it; with `k` >= 0, stops
+  // and returns -1 at a cell higher than h (or an earlier top of height h); otherwise returns the cap
+  // cell nearest the cap's centroid.
+  const cap = (start: number, floor: number, R2: number, h: number, k: number): number => {
+    pass++;
+    const c0 = start % W, r0 = (start - c0) / W;
+    stack.length = 0; stack.push(start); stamp[start] = pass;
     members.length = 0;
-    let higher = false, sc = 0, sr = 0;
-    while (stack.length > 0 && !higher) {
+    let sc = 0, sr = 0;
+    while (stack.length > 0) {
       const j = stack.pop()!;
       members.push(j);
       const jc = j % W, jr = (j - jc) / W;
       sc += jc; sr += jr;
-      for (let dr = -1; dr <= 1 && !higher; dr++) {
+      for (let dr = -1; dr <= 1; dr++) {
         const nr = jr + dr;
         if (nr < 0 || nr >= H) continue;
         for (let dc = -1; dc <= 1; dc++) {
           const nc = jc + dc;
           if (nc < 0 || nc >= W) continue;
           const q = nr * W + nc;
-          if (stamp[q] === k + 1) continue;
+          if (stamp[q] === pass) continue;
           const v = d[q]!;
           if (!(v >= floor) || (nc - c0) ** 2 + (nr - r0) ** 2 > R2) continue;
-          if (v > h) { higher = true; break; }
-          if (v === h) { const o = topAt.get(q); if (o !== undefined && o < k) { higher = true; break; } }
-          stamp[q] = k + 1;
+          if (k >= 0) {
+            if (v > h) return -1;
+            if (v === h) { const o = topAt.get(q); if (o !== undefined && o < k) return -1; }
+          }
+          stamp[q] = pass;
           stack.push(q);
         }
       }
     }
-    if (higher) { kept[k] = 0; continue; }
     const mc = sc / members.length, mr = sr / members.length;
-    let best = i0, bestD = Infinity;
+    let best = start, bestD = Infinity;
     for (const j of members) {
       const jc = j % W, jr = (j - jc) / W;
       const dd = (jc - mc) ** 2 + (jr - mr) ** 2;
       if (dd < bestD || (dd === bestD && j < best)) { bestD = dd; best = j; }
+    }
+    return best;
+  };
+  for (let k = 0; k < n; k++) {
+    const i0 = at[k]!, h = d[i0]!, floor = h - minDrop(h);
+    const R = reachCells(h), R2 = R * R;
+    let best = cap(i0, floor, R2, h, k);
+    if (best < 0) { kept[k] = 0; continue; }
+    // The summit's middle: the cap re-centred while it moves (a mean shift), so the top is not left
+    // pulled towards the highest bump. Over a wider reach the cap leaks into lower neighbours.
+    for (let it = 0; it < 3; it++) {
+      const next = cap(best, floor, R2, h, -1);
+      if (next === best) break;
+      best = next;
     }
     at[k] = best;
   }
