@@ -258,7 +258,12 @@ export async function tallyClouds(clouds: PointCloud[], options: TallyOptions, r
   const multi = s.multiReturnCounts.data;
   let anyMulti = false;
   for (let k = 0; k < multi.length && !anyMulti; k++) anyMulti = multi[k]! > 0;
-  const singles = anyMulti ? { ...s.geometry, data: Uint32Array.from(s.count.data, (v, k) => v - multi[k]!) } : undefined;
+  let singles: Grid<Uint32Array> | undefined;
+  if (anyMulti) {
+    const all = s.count.data, one = new Uint32Array(all.length);
+    for (let k = 0; k < all.length; k++) one[k] = all[k]! - multi[k]!;
+    singles = { ...s.geometry, data: one };
+  }
   const nt = rejectNonTrees(labels, tops, {
     dsm: s.dsm, chm, pointCount: s.count, buildingCount: s.buildingCount, unitM, hasBuildingClass: s.hasBuildingClass,
     ...(singles ? { singleReturnCount: singles } : {}),
@@ -325,14 +330,15 @@ export async function tallyClouds(clouds: PointCloud[], options: TallyOptions, r
 function markBelowSurface(c: PointChunk, dsm: Grid, vu: number, keep: Uint8Array): number {
   const { width, height, cellSize, originX, originY, data } = dsm;
   const inv = 1 / cellSize;
+  const { x, y, z, classification, flags } = c;
   let n = 0;
   for (let i = 0; i < c.count; i++) {
-    const fc = (c.x[i]! - originX) * inv, fr = (originY - c.y[i]!) * inv;
+    const fc = (x[i]! - originX) * inv, fr = (originY - y[i]!) * inv;
     let k = 1;
     if (fc >= 0 && fc < width && fr >= 0 && fr < height) {
       const top = data[(fr | 0) * width + (fc | 0)]!;
       // 1 mm slack for float32 rounding of the DSM.
-      if (Number.isNaN(top) ? c.classification[i] !== 7 && c.classification[i] !== 18 && (c.flags[i]! & 4) === 0 : c.z[i]! * vu > top + 1e-3) k = 0;
+      if (Number.isNaN(top) ? classification[i] !== 7 && classification[i] !== 18 && (flags[i]! & 4) === 0 : z[i]! * vu > top + 1e-3) k = 0;
     }
     keep[i] = k;
     n += k;

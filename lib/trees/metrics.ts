@@ -94,53 +94,59 @@ export class TreeMetricsAccumulator {
   }
 
   add(chunk: PointChunk): void {
+    // Fields and chunk arrays in locals: the loop runs once per point.
     const L = this.labels, D = this.dtm;
     const vu = this.opts.verticalUnitM, layerM = this.opts.profileLayerM, layers = this.layers;
     const hasRet = this.opts.hasReturns;
     const rgbOn = this.opts.hasRgb && !!chunk.red && !!chunk.green && !!chunk.blue;
     const lab = L.data, dd = D.data;
+    const lx = L.originX, ly = L.originY, lcs = L.cellSize, lw = L.width, lh = L.height;
+    const gx = D.originX, gy = D.originY, gcs = D.cellSize, gw = D.width, gh = D.height;
+    const nTrees = this.n, dropOverlap = this.dropOverlap, floorM = this.floorM;
+    const { count, maxH, intSum, intMax, ground, returnHist, first, last, single, inter, hist, binM, profiles, rgb, rgbCount } = this;
+    const { classification, flags, x: xs, y: ys, z: zs, intensity, returnNumber, numberOfReturns, red, green, blue } = chunk;
     for (let p = 0; p < chunk.count; p++) {
-      const cls = chunk.classification[p]!;
+      const cls = classification[p]!;
       if (cls === 7 || cls === 18) continue;
-      const fl = chunk.flags[p]!;
-      if (fl & FLAG_WITHHELD || (this.dropOverlap && fl & FLAG_OVERLAP)) continue;
-      const x = chunk.x[p]!, y = chunk.y[p]!;
-      const c = Math.floor((x - L.originX) / L.cellSize), r = Math.floor((L.originY - y) / L.cellSize);
-      if (!(c >= 0 && c < L.width && r >= 0 && r < L.height)) continue;
-      const t = lab[r * L.width + c]!;
-      if (t <= 0 || t > this.n) continue;
-      const dc = Math.floor((x - D.originX) / D.cellSize), dr = Math.floor((D.originY - y) / D.cellSize);
-      if (!(dc >= 0 && dc < D.width && dr >= 0 && dr < D.height)) continue;
-      const g = dd[dr * D.width + dc]!;
+      const fl = flags[p]!;
+      if (fl & FLAG_WITHHELD || (dropOverlap && fl & FLAG_OVERLAP)) continue;
+      const x = xs[p]!, y = ys[p]!;
+      const c = Math.floor((x - lx) / lcs), r = Math.floor((ly - y) / lcs);
+      if (!(c >= 0 && c < lw && r >= 0 && r < lh)) continue;
+      const t = lab[r * lw + c]!;
+      if (t <= 0 || t > nTrees) continue;
+      const dc = Math.floor((x - gx) / gcs), dr = Math.floor((gy - y) / gcs);
+      if (!(dc >= 0 && dc < gw && dr >= 0 && dr < gh)) continue;
+      const g = dd[dr * gw + dc]!;
       if (!Number.isFinite(g)) continue;
-      const h = chunk.z[p]! * vu - g;
+      const h = zs[p]! * vu - g;
       if (!Number.isFinite(h)) continue;
       const k = t - 1;
-      this.count[k]!++;
-      if (h > this.maxH[k]!) this.maxH[k] = h;
-      const it = chunk.intensity[p]!;
-      this.intSum[k]! += it;
-      if (it > this.intMax[k]!) this.intMax[k] = it;
-      if (cls === 2 || h < GROUND_HEIGHT_M) this.ground[k]!++;
+      count[k]!++;
+      if (h > maxH[k]!) maxH[k] = h;
+      const it = intensity[p]!;
+      intSum[k]! += it;
+      if (it > intMax[k]!) intMax[k] = it;
+      if (cls === 2 || h < GROUND_HEIGHT_M) ground[k]!++;
       if (hasRet) {
-        const rn = chunk.returnNumber[p]!, nr = chunk.numberOfReturns[p]!;
+        const rn = returnNumber[p]!, nr = numberOfReturns[p]!;
         if (rn > 0) {
-          this.returnHist[k * MAX_RETURN_NUMBER + Math.min(rn, MAX_RETURN_NUMBER) - 1]!++;
-          if (rn === 1) this.first[k]!++;
-          if (rn === nr) this.last[k]!++;
-          if (rn === 1 && nr === 1) this.single[k]!++;
-          if (rn > 1 && rn < nr) this.inter[k]!++;
+          returnHist[k * MAX_RETURN_NUMBER + Math.min(rn, MAX_RETURN_NUMBER) - 1]!++;
+          if (rn === 1) first[k]!++;
+          if (rn === nr) last[k]!++;
+          if (rn === 1 && nr === 1) single[k]!++;
+          if (rn > 1 && rn < nr) inter[k]!++;
         }
       }
-      if (h >= this.floorM) {
-        const b = Math.min(HEIGHT_BINS - 1, Math.floor(h / this.binM[k]!));
-        this.hist[k * HEIGHT_BINS + b]!++;
+      if (h >= floorM) {
+        const b = Math.min(HEIGHT_BINS - 1, Math.floor(h / binM[k]!));
+        hist[k * HEIGHT_BINS + b]!++;
       }
       const layer = Math.min(layers - 1, Math.max(0, Math.floor(h / layerM)));
-      this.profiles[k * layers + layer]!++;
+      profiles[k * layers + layer]!++;
       if (rgbOn) {
-        this.rgb[3 * k]! += chunk.red![p]!; this.rgb[3 * k + 1]! += chunk.green![p]!; this.rgb[3 * k + 2]! += chunk.blue![p]!;
-        this.rgbCount[k]!++;
+        rgb[3 * k]! += red![p]!; rgb[3 * k + 1]! += green![p]!; rgb[3 * k + 2]! += blue![p]!;
+        rgbCount[k]!++;
       }
     }
   }

@@ -28,21 +28,27 @@ export class ProfileAccumulator {
   }
 
   add(chunk: PointChunk): void {
-    const D = this.dtm, dd = D.data, n = this.counts.length;
+    // Fields and chunk arrays in locals: the loop runs once per point.
+    const D = this.dtm, dd = D.data, counts = this.counts, n = counts.length;
+    const { originX, originY, cellSize, width, height } = D;
+    const vu = this.vu, layerM = this.layerM, dropOverlap = this.dropOverlap;
+    const { classification, flags, x, y, z } = chunk;
+    let top = this.top;
     for (let p = 0; p < chunk.count; p++) {
-      const cls = chunk.classification[p]!;
+      const cls = classification[p]!;
       if (cls === 7 || cls === 18) continue;
-      const fl = chunk.flags[p]!;
-      if (fl & FLAG_WITHHELD || (this.dropOverlap && fl & FLAG_OVERLAP)) continue;
-      const c = Math.floor((chunk.x[p]! - D.originX) / D.cellSize), r = Math.floor((D.originY - chunk.y[p]!) / D.cellSize);
-      if (!(c >= 0 && c < D.width && r >= 0 && r < D.height)) continue;
-      const g = dd[r * D.width + c]!;
-      const h = chunk.z[p]! * this.vu - g;
+      const fl = flags[p]!;
+      if (fl & FLAG_WITHHELD || (dropOverlap && fl & FLAG_OVERLAP)) continue;
+      const c = Math.floor((x[p]! - originX) / cellSize), r = Math.floor((originY - y[p]!) / cellSize);
+      if (!(c >= 0 && c < width && r >= 0 && r < height)) continue;
+      const g = dd[r * width + c]!;
+      const h = z[p]! * vu - g;
       if (!Number.isFinite(h)) continue;
-      const l = Math.min(n - 1, Math.max(0, Math.floor(h / this.layerM)));
-      this.counts[l]!++;
-      if (l > this.top) this.top = l;
+      const l = Math.min(n - 1, Math.max(0, Math.floor(h / layerM)));
+      counts[l]!++;
+      if (l > top) top = l;
     }
+    this.top = top;
   }
 
   /** Counts from the ground up to the highest layer holding a return. */
