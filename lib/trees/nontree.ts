@@ -21,6 +21,11 @@ export interface NonTreeOptions {
    * several times is foliage, however smooth its top: the shape tests leave it in. Default 0.4.
    */
   minFoliageMultiShare?: number;
+  /**
+   * The foliage rule holds only for crowns whose top is at least this high (m): low smooth foliage is a
+   * clipped hedge or shrub bed more often than a tree, and stays judged by shape. Default 3 m.
+   */
+  minFoliageTopM?: number;
   /** True when the survey carries class 6 at all: then the class decides, not the shape. */
   hasBuildingClass?: boolean;
   /** CRS unit to metres. Default 1. */
@@ -71,8 +76,10 @@ export interface NonTreeResult {
  *    nearly all single returns (maxSingleShare) is not a tree (common practice);
  *    and the other way round, a crown whose returns come largely from pulses
  *    that returned several times (minFoliageMultiShare) is foliage even when
- *    its top is smooth (a flat-topped or clipped crown): the shape tests
- *    leave it in. A roof gives multiple returns only along its edges.
+ *    its top is smooth (a flat-topped or clipped crown) and at least
+ *    minFoliageTopM high: the shape tests leave it in. A roof gives
+ *    multiple returns only along its edges; a low smooth crown is more
+ *    often a clipped hedge than a tree, so it stays judged by shape.
  * The stencil reads the surface regardless of labels, so a roof split into
  * several crowns by noise is judged as the roof it is; a small crown
  * that meets a roof crown with no step in the surface is a cut-off piece of
@@ -103,6 +110,7 @@ export function rejectNonTrees(labels: Grid<Int32Array>, tops: Treetops, opts: N
   const bySingles = !!opts.pointCount && !!opts.singleReturnCount;
   const maxSingle = opts.maxSingleShare ?? 0.95;
   const minFoliage = opts.minFoliageMultiShare ?? 0.4;
+  const minFoliageTop = opts.minFoliageTopM ?? 3;
 
   // Per crown: cells, planar cells, plane-fit sums (x, y in metres from the top), building and all returns.
   const cells = new Float64Array(n), planar = new Float64Array(n), pts = new Float64Array(n), bld = new Float64Array(n);
@@ -143,7 +151,7 @@ export function rejectNonTrees(labels: Grid<Int32Array>, tops: Treetops, opts: N
     // The building class marks roofs, but vehicles, decks and other solids have no class of their own:
     // the shape and solid-surface tests still apply to crowns the class does not mark.
     if (byClass && pts[k]! > 0 && bld[k]! / pts[k]! >= maxShare) roof[k] = 1;
-    else if (bySingles && pts[k]! >= 20 && (pts[k]! - sgl[k]!) / pts[k]! >= minFoliage) roof[k] = 0;
+    else if (bySingles && pts[k]! >= 20 && tops.heightM[k]! >= minFoliageTop && (pts[k]! - sgl[k]!) / pts[k]! >= minFoliage) roof[k] = 0;
     else if (cells[k]! >= 4) {
       if (planar[k]! / cells[k]! >= maxPlanar) roof[k] = 1;
       else if (bySingles && pts[k]! >= 20 && sgl[k]! / pts[k]! >= maxSingle) roof[k] = 1;

@@ -54,7 +54,7 @@ describe('detection on the robustness scenes (behaviour checks, our own invented
     ['street-3-ground', 0.95, 0.35],
     ['lean-flat-8', 0.83, 0.45],
     ['multistem-8', 0.79, 0.2],
-    ['mixed-8-slope20-noclass', 0.68, 0.3],
+    ['mixed-8-slope20-noclass', 0.7, 0.3],
     ['giants-3', 0.97, 0.3],
   ];
   for (const [name, f1, rmse] of floors) {
@@ -137,9 +137,16 @@ describe('non-tree rejection with a building class (behaviour checks)', () => {
     expect(r.removed).toBe(1);
   });
 
-  it('the same smooth top whose returns mostly come from multi-return pulses is foliage and stays', () => {
-    const r = rejectNonTrees(labels, tops, { chm, pointCount: counts(4), buildingCount: counts(0), singleReturnCount: counts(1), hasBuildingClass: true });
+  it('a smooth top 4 m high whose returns mostly come from multi-return pulses is foliage and stays', () => {
+    const tall = grid(20, 20, (x, y) => (x > 3 && x < 7 && y > 4 && y < 6 ? 4 : 0));
+    const t = findTreetops(tall, { minHeightM: 2, window: 'combined' });
+    const r = rejectNonTrees(labels, t, { chm: tall, pointCount: counts(4), buildingCount: counts(0), singleReturnCount: counts(1), hasBuildingClass: true });
     expect(r.removed).toBe(0);
+  });
+
+  it('the same returns on a smooth top below 3 m (a clipped hedge) are still judged by shape', () => {
+    const r = rejectNonTrees(labels, tops, { chm, pointCount: counts(4), buildingCount: counts(0), singleReturnCount: counts(1), hasBuildingClass: true });
+    expect(r.removed).toBe(1);
   });
 
   it('a crown mostly of class 6 is a roof whatever its returns', () => {
