@@ -50,6 +50,11 @@ const MAX_RADIUS_CELLS = 512;
  * nearest the component's centroid (ties: first in row-major order). Two
  * equal-height maxima that are not connected but lie within one window give
  * one top: the first in row-major order.
+ *
+ * With a prominence (minProminenceM, minProminenceFraction), a top whose
+ * surface rises to a higher cell within reach without dipping that far is
+ * dropped, and each kept top moves to the middle of its summit (see
+ * dropShallowTops). Tops stay ordered north to south, then west to east.
  */
 export function findTreetops(chm: Grid, opts: TreetopOptions): Treetops {
   const unitM = opts.unitM ?? 1;
@@ -141,9 +146,13 @@ export function findTreetops(chm: Grid, opts: TreetopOptions): Treetops {
       (h) => (reach !== undefined ? reach : win(h)) / (chm.cellSize * unitM));
     // A kept top moves to the middle of its summit (see dropShallowTops); its height stays the summit's.
     const summitH = new Map<number, number>();
+    const taken = new Set<number>();
     for (let k = 0; k < order.length; k++) {
       if (!kept[k]) continue;
       const j = at[k]!;
+      // Two summits re-centred onto one cell are one top (the first).
+      if (taken.has(j)) { kept[k] = 0; continue; }
+      taken.add(j);
       summitH.set(order[k]!, data[rows[order[k]!]! * W + cols[order[k]!]!]!);
       cols[order[k]!] = j % W; rows[order[k]!] = Math.floor(j / W);
     }
@@ -222,9 +231,7 @@ export function discRadiusCells(windowM: number, cellSize: number, unitM = 1): n
  * height earlier in the list) sits on the shoulder of a higher summit with
  * no dip of minDrop between them: a bump on a rough or flat crown top, or a
  * second leader of one crown, not a tree of its own. Prominence is the
- * usual topographic measure (common practice); its use to prune treetop
- * candidates is a form of the saddle-depth tests of CHM segmentation.
- * Cost: for each top, the cells of its upper cap (within minDrop of it),
+ * usual topographic measure (common practice). Cost: for each top, the cells of its upper cap (within minDrop of it),
  * at most the disc of the reach. Returns one flag per top, 1 = kept.
  *
  * A kept top's cap is its summit: on a flat-topped crown the highest cell
