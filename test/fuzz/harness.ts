@@ -50,9 +50,8 @@ export function fastLazPerf(): LazPerfProvider {
         return {};
       },
     });
-    for (const ev of ['unhandledRejection', 'uncaughtException'] as const) {
-      for (const l of process.listeners(ev)) if (!before.has(l)) (process.removeListener as (e: string, f: unknown) => unknown).call(process, ev, l);
-    }
+    for (const l of process.listeners('unhandledRejection')) if (!before.has(l)) process.removeListener('unhandledRejection', l);
+    for (const l of process.listeners('uncaughtException')) if (!before.has(l)) process.removeListener('uncaughtException', l);
     return lp;
   };
 }
