@@ -119,7 +119,7 @@ export function growCrowns(chm: Grid, tops: Treetops, opts: CrownOptions): Grid<
   }
   // Hierarchical queue (Meyer 1994) stored as one array cut into per-level
   // FIFO slots (counting-sort offsets) instead of linked lists: pushes to
-  // future levels are sequential writes at a few hundred moving ends, pops
+  // future levels are sequential writes at one moving end per level, pops
   // sequential reads. Cells queued at the flood level itself (own level, or a
   // higher cell joining the current level) go to `now`, drained after the
   // level's slot; both are FIFO, so the order is that of one FIFO per level.
