@@ -40,7 +40,7 @@ tally options (lengths in metres):
   --window NAME|TABLE   treetop search window: deciduous, pines, combined (default),
                         or a table of height:window pairs, e.g. 5:3,15:5,30:9
   --crown-floor F       a cell joins a crown only above F x its top height (default 0.3)
-  --crown-reach M       largest distance from a top to its crown edge (default: the window)
+  --crown-reach M       largest distance from a top to its crown edge (default: 1.5 windows, at least 3)
   --smooth M            Gaussian smoothing of the CHM before treetops, sigma in m (default 0.3)
   --ground auto|class|filter   ground source (default auto: class 2 if present)
   --keep-overlap        keep points flagged as overlap
