@@ -8,6 +8,7 @@ import { aoiBounds, markInside, rectIntersect, type Rect } from './aoi.js';
 import { CrowntallyError, throwIfAborted } from './errors.js';
 import { chunkBytes, subsetChunk } from './io/chunks.js';
 import { crsFromUserText } from './io/crs.js';
+import { makeLonLatTransform } from './crs/transform.js';
 import { openPointCloud } from './io/open.js';
 import type { LazPerfProvider } from './io/laz.js';
 import { ReadoutAccumulator } from './io/readout.js';
@@ -157,6 +158,34 @@ export async function tally(inputs: ByteSource[], run: TallyRun = {}): Promise<T
   }
 }
 
+/**
+ * The area of interest in survey CRS units: a lon/lat polygon (GeoJSON,
+ * RFC 7946 order: longitude first) has its vertices reprojected; edges stay
+ * straight in the survey CRS, which over a survey's extent differs from the
+ * geodesic by far less than a cell.
+ */
+function surveyAoi(a: AreaOfInterest, crs: CrsInfo): AreaOfInterest {
+  if (a.kind !== 'polygon' || !a.lonLat) return a;
+  let t: ReturnType<typeof makeLonLatTransform>;
+  try {
+    t = makeLonLatTransform(crs);
+  } catch (e) {
+    if (e instanceof CrowntallyError) {
+      throw new CrowntallyError(e.code, `the boundary is in longitude/latitude but ${e.message}`);
+    }
+    throw e;
+  }
+  const rings = a.rings.map((ring) => ring.map((p) => {
+    const lon = p[0], lat = p[1];
+    if (typeof lon !== 'number' || typeof lat !== 'number' || !(Math.abs(lon) <= 180) || !(Math.abs(lat) <= 90)) {
+      throw new CrowntallyError('BAD_OPTIONS', 'the boundary has a vertex that is not a longitude/latitude in degrees (longitude first, as GeoJSON asks)');
+    }
+    const [x, y] = t.fromLonLat(lon, lat);
+    return [x, y];
+  }));
+  return { kind: 'polygon', rings };
+}
+
 export async function tallyClouds(clouds: PointCloud[], options: TallyOptions, run: TallyRun): Promise<TallyResult> {
   const crs: CrsInfo = clouds[0]!.crs;
   if (run.requireCrs && !crs.proj4) {
@@ -170,16 +199,27 @@ export async function tallyClouds(clouds: PointCloud[], options: TallyOptions, r
     warnings.push(`EPSG:${crs.epsg} is not among the carried CRS definitions: lengths and heights were taken as metres and trees cannot be placed on a map; give a carried EPSG code if the unit is not the metre`);
   }
 
-  let area: Rect | null = unionBounds(clouds);
-  const polygon = run.aoi?.kind === 'polygon' ? run.aoi.rings : undefined;
-  if (run.aoi) area = rectIntersect(area, aoiBounds(run.aoi));
+  const survey = unionBounds(clouds);
+  let area: Rect | null = survey;
+  const aoi = run.aoi ? surveyAoi(run.aoi, crs) : undefined;
+  const polygon = aoi?.kind === 'polygon' ? aoi.rings : undefined;
+  if (aoi) area = rectIntersect(area, aoiBounds(aoi));
   if (run.clip) area = area && rectIntersect(area, run.clip);
   if (!area) throw new CrowntallyError('EMPTY', 'the area of interest does not overlap the survey');
-  // Half-open edges in markInside: widen by a hair so the survey's own max points stay in.
-  const readRect: Rect = { ...area, maxX: area.maxX + 1e-9 * Math.max(1, Math.abs(area.maxX)), maxY: area.maxY + 1e-9 * Math.max(1, Math.abs(area.maxY)) };
+  // Half-open edges in markInside: widen by a hair so the survey's own max points
+  // stay in; only there, since an area's or a tile's own max edge must stay exact
+  // (the hair is millimetres at UTM northings).
+  const hair = (v: number): number => v + 1e-9 * Math.max(1, Math.abs(v));
+  const readRect: Rect = {
+    ...area,
+    maxX: area.maxX >= survey.maxX ? hair(area.maxX) : area.maxX,
+    maxY: area.maxY >= survey.maxY ? hair(area.maxY) : area.maxY,
+  };
   const clipping = Boolean(run.aoi || run.clip);
 
-  const cellSizeM = chooseCellSizeM(clouds, options, run.clip ? undefined : area);
+  // Density is the whole survey's points over the whole survey's area: an area
+  // of interest or a tile holds only part of the points the header counts.
+  const cellSizeM = chooseCellSizeM(clouds, options);
   const cellSize = cellSizeM / unitM;
   const geometry = geometryFor(area, cellSize);
   checkGeometry(geometry, options.maxGridCells, unitM);

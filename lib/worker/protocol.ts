@@ -13,10 +13,14 @@ import type { ProgressEvent, TallyResult } from '../result.js';
 /** Input files: Blob/File in the browser, ArrayBuffer anywhere, a path string in Node. */
 export type SurveyInput = Blob | ArrayBuffer | string;
 
-/** Area of interest in file CRS units: a rectangle or polygon rings [[x,y],...]. */
+/**
+ * Area of interest in file CRS units: a rectangle or polygon rings [[x,y],...].
+ * A polygon with `lonLat: true` is in WGS 84 longitude, latitude degrees (a
+ * GeoJSON boundary, RFC 7946) and is converted to the survey CRS first.
+ */
 export type AreaOfInterest =
   | { kind: 'rect'; minX: number; minY: number; maxX: number; maxY: number }
-  | { kind: 'polygon'; rings: number[][][] };
+  | { kind: 'polygon'; rings: number[][][]; lonLat?: boolean };
 
 /** A built-in invented scenario, generated inside the worker instead of files. */
 export type DemoKind = 'park' | 'orchard' | 'canopy';

@@ -42,6 +42,11 @@ export function validateRequest(m: unknown): WorkerRequest {
         const a = m.aoi as Record<string, unknown>;
         if (!isObj(a) || (a.kind !== 'rect' && a.kind !== 'polygon')) bad('aoi must be a rect or polygon');
         if (a.kind === 'polygon' && !Array.isArray(a.rings)) bad('aoi polygon needs rings');
+        if (a.kind === 'polygon' && !(a.rings as unknown[]).every((r) => Array.isArray(r) && r.length >= 3 && r.every((p) => Array.isArray(p) && p.length >= 2 && Number.isFinite(p[0]) && Number.isFinite(p[1])))) {
+          bad('aoi polygon rings must be lists of at least three [x, y] number pairs');
+        }
+        if (a.kind === 'polygon' && a.lonLat !== undefined && typeof a.lonLat !== 'boolean') bad('aoi lonLat must be true or false');
+        if (a.kind === 'rect' && ![a.minX, a.minY, a.maxX, a.maxY].every((v) => Number.isFinite(v))) bad('aoi rect needs finite minX, minY, maxX, maxY');
       }
       if (m.type === 'tree-points') {
         if (!isGrid(m.labels, Int32Array) || !isGrid(m.dtm, Float32Array)) bad('tree-points needs the label grid and the DTM');
