@@ -1,7 +1,8 @@
 import { registerSW } from 'virtual:pwa-register';
 import { DEFAULT_OPTIONS, type TallyOptions, type WindowPreset } from '../../lib/options.js';
 import type { SurveyReadout } from '../../lib/io/types.js';
-import type { TallyResult } from '../../lib/result.js';
+import type { ProgressEvent, TallyResult } from '../../lib/result.js';
+import type { AreaOfInterest } from '../../lib/worker/protocol.js';
 import { button, bytes, clear, fmt, h, put } from './dom.js';
 import { Jobs } from './jobs.js';
 import { openStore, StoreError, type FieldStore, type ProjectRecord } from './store.js';
@@ -75,7 +76,12 @@ async function route(): Promise<void> {
     const p = await store.getProject(m[2]!);
     if (!p) return go('#/');
     crumb.textContent = p.name;
-    if (m[1] === 'results' && p.run) return await openResults(main, store, jobs, p, { toSetup: () => go(`#/setup/${p.id}`) });
+    if (m[1] === 'results' && p.run) {
+      return await openResults(main, store, jobs, p, {
+        toSetup: () => go(`#/setup/${p.id}`),
+        reprocess: async (aoi, onProgress, signal) => { await reprocessArea(p.id, aoi, onProgress, signal); go(`#/results/${p.id}`); },
+      });
+    }
     return await setupScreen(p);
   } catch (e) {
     showError(main, e);
@@ -277,7 +283,8 @@ async function setupScreen(p: ProjectRecord): Promise<void> {
     stage.textContent = 'Starting\u2026';
     const t0 = performance.now();
     try {
-      const result = await jobs.tally({ ...input(), options: opts, ...(crs ? { crs: crs.toUpperCase() } : {}) }, (ev) => {
+      const aoi = (await store.getProject(p.id))?.aoi;
+      const result = await jobs.tally({ ...input(), options: opts, ...(crs ? { crs: crs.toUpperCase() } : {}), ...(aoi ? { aoi } : {}) }, (ev) => {
         progress.value = ev.fraction;
         const pts = ev.pointsTotal ? ` \u2014 ${ev.pointsRead.toLocaleString()} of ${ev.pointsTotal.toLocaleString()} points` : '';
         stage.textContent = `${stageNames[ev.stage] ?? ev.stage} (${Math.round(ev.fraction * 100)}%)${pts}`;
@@ -285,9 +292,7 @@ async function setupScreen(p: ProjectRecord): Promise<void> {
       stage.textContent = 'Saving\u2026';
       const unplaced = await saveResult(p, result);
       stage.textContent = `Done in ${((performance.now() - t0) / 1000).toFixed(1)} s: ${result.trees.count} trees.`;
-      if (unplaced.length) {
-        sessionStorage.setItem(`unplaced-${p.id}`, JSON.stringify(unplaced.map((e) => ({ x: e.x, y: e.y, note: e.note ?? '', species: e.species ?? '', deleted: !!e.deleted }))));
-      }
+      noteUnplaced(p.id, unplaced);
       go(`#/results/${p.id}`);
     } catch (e) {
       showError(status, e);
@@ -306,6 +311,31 @@ async function setupScreen(p: ProjectRecord): Promise<void> {
     showError(readoutBox, e);
     crsBox.hidden = false;
   }
+}
+
+function noteUnplaced(id: string, unplaced: Awaited<ReturnType<typeof saveResult>>): void {
+  if (unplaced.length) {
+    sessionStorage.setItem(`unplaced-${id}`, JSON.stringify(unplaced.map((e) => ({ x: e.x, y: e.y, note: e.note ?? '', species: e.species ?? '', deleted: !!e.deleted }))));
+  }
+}
+
+/**
+ * Processes the survey again limited to `aoi` (null: the whole survey) with
+ * the project's stored options, then stores the area with the run. The area
+ * is stored only once the run succeeded, so a boundary that misses the survey
+ * leaves the last results and their area as they were.
+ */
+async function reprocessArea(id: string, aoi: AreaOfInterest | null, onProgress: (p: ProgressEvent) => void, signal: AbortSignal): Promise<void> {
+  const p = await store.getProject(id);
+  if (!p) throw new Error('that project is no longer on this device');
+  const files = await store.getFiles(id);
+  const result = await jobs.tally({
+    files: files.map((f) => f.blob), names: files.map((f) => f.name),
+    ...(p.source.kind === 'demo' ? { demo: p.source.demo } : {}),
+    options: p.options, ...(p.crs ? { crs: p.crs } : {}), ...(aoi ? { aoi } : {}),
+  }, onProgress, signal);
+  const q = await store.updateProject(id, (r) => { if (aoi) r.aoi = aoi; else delete r.aoi; });
+  noteUnplaced(id, await saveResult(q, result));
 }
 
 /** Stores a run and puts earlier corrections back on the new trees; returns those that found no tree. */

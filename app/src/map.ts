@@ -23,6 +23,12 @@ export interface MapData {
 
 export interface MapTap { row: number; x: number; y: number }
 
+/** A rectangle in survey CRS units. */
+export interface MapRect { minX: number; minY: number; maxX: number; maxY: number }
+
+/** Rectangle drawing in progress: corners in CHM cell units. */
+interface RectDraw { onDone: (r: MapRect | null) => void; from: [number, number] | null; to: [number, number] | null; pointer: number }
+
 export class MapView {
   readonly el: HTMLElement;
   private canvas: HTMLCanvasElement;
@@ -38,6 +44,10 @@ export class MapView {
   private frame = 0;
   private legend: HTMLElement;
   private fitted = false;
+  private rectDraw: RectDraw | null = null;
+  /** A click that ends a drag is not a tap on a crown. */
+  private swallowClick = false;
+  private readonly onKey = (ev: KeyboardEvent) => { if (ev.key === 'Escape' && this.rectDraw) this.endRectangle(null); };
 
   constructor(private readonly onTap: (t: MapTap) => void) {
     this.canvas = h('canvas', { class: 'map-canvas', 'aria-label': 'Canopy height map: tap a crown to select its tree' });
@@ -54,7 +64,11 @@ export class MapView {
       this.schedule();
     });
     select(this.canvas).call(this.zoomer);
-    this.canvas.addEventListener('click', (ev) => this.tap(ev));
+    this.canvas.addEventListener('click', (ev) => { if (this.swallowClick || this.rectDraw) { this.swallowClick = false; return; } this.tap(ev); });
+    this.canvas.addEventListener('pointerdown', (ev) => this.rectDown(ev));
+    this.canvas.addEventListener('pointermove', (ev) => this.rectMove(ev));
+    this.canvas.addEventListener('pointerup', (ev) => this.rectUp(ev));
+    this.canvas.addEventListener('pointercancel', (ev) => { if (this.rectDraw?.pointer === ev.pointerId) { this.rectDraw.from = null; this.rectDraw.to = null; this.schedule(); } });
     new ResizeObserver(() => this.resize()).observe(this.el);
   }
 
@@ -87,6 +101,81 @@ export class MapView {
     if (sx > 40 && sx < w - 40 && sy > 40 && sy < hgt - 40) return;
     const t = zoomIdentity.translate(w / 2 - px * this.transform.k, hgt / 2 - py * this.transform.k).scale(this.transform.k);
     select(this.canvas).call(this.zoomer.transform, t);
+  }
+
+  /**
+   * Lets the user drag a rectangle (mouse, pen or finger); pan and zoom are
+   * off meanwhile. Calls back with the rectangle in CRS units, or null when
+   * cancelled (Esc, or cancelRectangle()).
+   */
+  startRectangle(onDone: (r: MapRect | null) => void): void {
+    if (this.rectDraw) this.endRectangle(null);
+    this.rectDraw = { onDone, from: null, to: null, pointer: -1 };
+    select(this.canvas).on('.zoom', null);
+    this.canvas.classList.add('is-drawing');
+    document.addEventListener('keydown', this.onKey);
+    this.schedule();
+  }
+
+  cancelRectangle(): void {
+    if (this.rectDraw) this.endRectangle(null);
+  }
+
+  get drawingRectangle(): boolean {
+    return this.rectDraw !== null;
+  }
+
+  private endRectangle(r: MapRect | null): void {
+    const d = this.rectDraw;
+    if (!d) return;
+    this.rectDraw = null;
+    document.removeEventListener('keydown', this.onKey);
+    this.canvas.classList.remove('is-drawing');
+    select(this.canvas).call(this.zoomer);
+    this.schedule();
+    d.onDone(r);
+  }
+
+  private cellAt(ev: PointerEvent): [number, number] {
+    const r = this.canvas.getBoundingClientRect();
+    const [px, py] = this.transform.invert([ev.clientX - r.left, ev.clientY - r.top]);
+    if (!this.data) return [px, py];
+    const { chm } = this.data; // clamp to the map, so a drag past its edge keeps the edge
+    return [Math.min(chm.width, Math.max(0, px)), Math.min(chm.height, Math.max(0, py))];
+  }
+
+  private rectDown(ev: PointerEvent): void {
+    const d = this.rectDraw;
+    if (!d || d.from) return;
+    ev.preventDefault();
+    d.pointer = ev.pointerId;
+    d.from = this.cellAt(ev);
+    d.to = d.from;
+    this.canvas.setPointerCapture?.(ev.pointerId);
+    this.schedule();
+  }
+
+  private rectMove(ev: PointerEvent): void {
+    const d = this.rectDraw;
+    if (!d || !d.from || ev.pointerId !== d.pointer) return;
+    d.to = this.cellAt(ev);
+    this.schedule();
+  }
+
+  private rectUp(ev: PointerEvent): void {
+    const d = this.rectDraw;
+    if (!d || !d.from || ev.pointerId !== d.pointer || !this.data) return;
+    d.to = this.cellAt(ev);
+    this.swallowClick = true;
+    const [ax, ay] = d.from, [bx, by] = d.to;
+    // Fewer than two cells across is a slip, not an area: keep drawing.
+    if (Math.abs(ax - bx) < 2 || Math.abs(ay - by) < 2) { d.from = null; d.to = null; this.schedule(); return; }
+    const { chm } = this.data;
+    const cs = chm.cellSize;
+    this.endRectangle({
+      minX: chm.originX + Math.min(ax, bx) * cs, maxX: chm.originX + Math.max(ax, bx) * cs,
+      minY: chm.originY - Math.max(ay, by) * cs, maxY: chm.originY - Math.min(ay, by) * cs,
+    });
   }
 
   private zoomBy(f: number): void {
@@ -257,6 +346,16 @@ export class MapView {
       if (!p) continue;
       g.lineWidth = (width + 2) * px; g.strokeStyle = '#000000'; g.stroke(p);
       g.lineWidth = width * px; g.strokeStyle = colour; g.stroke(p);
+    }
+    const d = this.rectDraw;
+    if (d?.from && d.to) {
+      const x0 = Math.min(d.from[0], d.to[0]), y0 = Math.min(d.from[1], d.to[1]);
+      const w = Math.abs(d.from[0] - d.to[0]), hh = Math.abs(d.from[1] - d.to[1]);
+      g.fillStyle = MARK.areaFill; g.fillRect(x0, y0, w, hh);
+      g.setLineDash([6 * px, 4 * px]);
+      g.lineWidth = 4 * px; g.strokeStyle = '#000000'; g.strokeRect(x0, y0, w, hh);
+      g.lineWidth = 2 * px; g.strokeStyle = MARK.area; g.strokeRect(x0, y0, w, hh);
+      g.setLineDash([]);
     }
   }
 }

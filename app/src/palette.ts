@@ -22,6 +22,9 @@ export const MARK = {
   edited: '#8e3fbf',
   deleted: '#6b6b6b',
   merge: '#d1495b',
+  /** Area being drawn: a dashed outline over a light veil, readable on every canopy colour. */
+  area: '#ffffff',
+  areaFill: 'rgba(255, 255, 255, 0.25)',
 } as const;
 
 /** RGB of a height on a ramp from 0 to maxM. */

@@ -10,7 +10,9 @@ import { MapView } from './map.js';
 import { newEditKey, type EditRecord, type FieldStore, type ProjectRecord, type StoredRun } from './store.js';
 import { COLUMN_LABEL, TreeListView } from './table.js';
 import { sideView, type SideColouring } from './sideview.js';
-import type { TreePoints } from '../../lib/worker/protocol.js';
+import type { AreaOfInterest, TreePoints } from '../../lib/worker/protocol.js';
+import type { ProgressEvent } from '../../lib/result.js';
+import { boundaryFromGeoJSON, BoundaryError, MAX_BOUNDARY_BYTES } from './boundary.js';
 
 /**
  * The results of a survey: map and tree list side by side on wide screens
@@ -23,7 +25,13 @@ const CONDITIONS = ['', 'good', 'fair', 'poor', 'dead', 'not assessed'];
 /** Most points drawn in a side view: enough to read a crown's shape, few enough for a tablet to draw as SVG. */
 const SIDE_POINTS = 4000;
 
-export async function openResults(main: HTMLElement, store: FieldStore, jobs: Jobs, project: ProjectRecord, nav: { toSetup: () => void }): Promise<void> {
+export interface ResultsNav {
+  toSetup: () => void;
+  /** Processes the survey again limited to `aoi` (null: whole survey), stores it, and shows the new results. */
+  reprocess: (aoi: AreaOfInterest | null, onProgress: (p: ProgressEvent) => void, signal: AbortSignal) => Promise<void>;
+}
+
+export async function openResults(main: HTMLElement, store: FieldStore, jobs: Jobs, project: ProjectRecord, nav: ResultsNav): Promise<void> {
   const loaded = await store.loadRun(project.id);
   if (!loaded || !project.run) { nav.toSetup(); return; }
   let run: StoredRun = loaded;
@@ -44,6 +52,11 @@ export async function openResults(main: HTMLElement, store: FieldStore, jobs: Jo
   };
 
   const modeBar = h('div', { class: 'mode-bar', 'aria-live': 'polite' });
+  const areaBar = h('div', { class: 'area-bar', 'aria-live': 'polite' });
+  const areaStatus = h('div', { class: 'status area-status' });
+  const boundaryInput = h('input', { type: 'file', id: 'boundary-input', accept: '.geojson,.json,application/geo+json,application/json', class: 'visually-hidden', 'aria-label': 'GeoJSON boundary file' });
+  boundaryInput.addEventListener('change', () => { void importBoundary(); });
+  let areaJob: AbortController | null = null;
   const map = new MapView((t) => { void onMapTap(t.row, t.x, t.y); });
   const list = new TreeListView((row) => select(row));
   const detail = h('aside', { class: 'detail card', 'aria-label': 'Selected tree' });
@@ -62,7 +75,7 @@ export async function openResults(main: HTMLElement, store: FieldStore, jobs: Jo
     meta.warnings.length ? h('ul', { class: 'warnings' }, ...meta.warnings.map((w) => h('li', {}, w))) : null,
     unplacedBox,
     h('div', { class: 'results' },
-      h('section', { class: 'card map-card' }, h('h2', {}, 'Map'), modeBar, map.el),
+      h('section', { class: 'card map-card' }, h('h2', {}, 'Map'), areaBar, boundaryInput, areaStatus, modeBar, map.el),
       detail),
     h('section', { class: 'card' }, h('h2', {}, 'Trees'), list.el),
     overview,
@@ -71,6 +84,7 @@ export async function openResults(main: HTMLElement, store: FieldStore, jobs: Jo
 
   showUnplaced();
   refreshAll();
+  renderAreaBar();
 
   // Browser-test view of the current run (present only when the page was opened with ?test-hooks=1).
   const hooks = (globalThis as unknown as { __crowntally?: Record<string, unknown> }).__crowntally;
@@ -79,6 +93,7 @@ export async function openResults(main: HTMLElement, store: FieldStore, jobs: Jo
       trees: () => ({ tree_id: Array.from(run.trees.columns.tree_id), x: Array.from(run.trees.columns.x), y: Array.from(run.trees.columns.y), area: Array.from(run.trees.columns.crown_area_m2) }),
       screenOf: (row: number) => map.screenOf(row),
       selected: () => selected,
+      area: () => project.aoi ?? null,
     };
   }
 
@@ -116,6 +131,73 @@ export async function openResults(main: HTMLElement, store: FieldStore, jobs: Jo
       modeBar.replaceChildren(h('span', { class: 'mode-note' }, `Tap the crown to merge into tree ${treeLabel(selected)}.`), button('Cancel merge', () => { mode = 'select'; renderModeBar(); }, 'btn'));
     } else {
       modeBar.replaceChildren(h('span', { class: 'mode-note' }, 'Tap a crown to select its tree.'), button('Add a missed tree', () => { mode = 'add'; renderModeBar(); }, 'btn', { 'data-action': 'add-mode' }));
+    }
+  }
+
+  // ---- area of interest: a drawn rectangle or an imported boundary ------------
+
+  function areaText(): string {
+    const a = project.aoi;
+    if (!a) return 'Showing the whole survey.';
+    if (a.kind === 'rect') {
+      const u = meta.crs.unitM;
+      return `Limited to a drawn rectangle of ${fmt((a.maxX - a.minX) * u, 0)} m \u00d7 ${fmt((a.maxY - a.minY) * u, 0)} m.`;
+    }
+    return 'Limited to an imported boundary.';
+  }
+
+  function renderAreaBar(): void {
+    if (areaJob) return;
+    if (map.drawingRectangle) {
+      areaBar.replaceChildren(h('span', { class: 'area-note' }, 'Drag a rectangle over the area to keep. Esc or Cancel leaves.'),
+        button('Cancel', () => map.cancelRectangle(), 'btn', { 'data-action': 'area-cancel' }));
+      return;
+    }
+    put(areaBar, h('span', { class: 'area-note', id: 'area-note' }, areaText()),
+      button('Limit to an area', () => drawArea(), 'btn', { 'data-action': 'area-draw' }),
+      button('Import boundary (GeoJSON)', () => boundaryInput.click(), 'btn', { 'data-action': 'area-import' }),
+      project.aoi ? button('Use whole survey', () => { void applyArea(null); }, 'btn', { 'data-action': 'area-clear' }) : null);
+  }
+
+  function drawArea(): void {
+    mode = 'select'; renderModeBar();
+    areaStatus.replaceChildren();
+    map.startRectangle((r) => {
+      renderAreaBar();
+      if (r) void applyArea({ kind: 'rect', ...r });
+    });
+    renderAreaBar();
+  }
+
+  async function importBoundary(): Promise<void> {
+    const f = boundaryInput.files?.[0];
+    boundaryInput.value = '';
+    if (!f) return;
+    areaStatus.replaceChildren();
+    try {
+      if (f.size > MAX_BOUNDARY_BYTES) throw new BoundaryError('the boundary file is too large for an area outline (over 20 MB)');
+      const rings = boundaryFromGeoJSON(await f.text());
+      await applyArea({ kind: 'polygon', rings, lonLat: true });
+    } catch (err) {
+      areaStatus.replaceChildren(h('p', { class: 'error', role: 'alert' }, `${f.name}: ${(err as Error).message}.`));
+    }
+  }
+
+  async function applyArea(aoi: AreaOfInterest | null): Promise<void> {
+    if (areaJob) return;
+    const ctrl = new AbortController();
+    areaJob = ctrl;
+    const progress = h('progress', { max: '1', value: '0', class: 'bar-progress', 'aria-label': 'Processing progress' });
+    const stage = h('span', { class: 'stage' }, aoi ? 'Processing the area\u2026' : 'Processing the whole survey\u2026');
+    areaBar.replaceChildren(stage, progress, button('Cancel', () => ctrl.abort(), 'btn', { 'data-action': 'area-job-cancel' }));
+    try {
+      await nav.reprocess(aoi, (ev) => { progress.value = ev.fraction; }, ctrl.signal);
+    } catch (err) {
+      areaStatus.replaceChildren(h('p', { class: 'error', role: 'alert' },
+        ctrl.signal.aborted ? 'Cancelled; the results below are unchanged.' : `${(err as Error).message}. The results below are unchanged.`));
+    } finally {
+      areaJob = null;
+      if (areaBar.isConnected) renderAreaBar();
     }
   }
 

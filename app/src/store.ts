@@ -3,7 +3,7 @@ import type { CrsInfo, SurveyReadout } from '../../lib/io/types.js';
 import type { TallyOptions } from '../../lib/options.js';
 import type { Grid } from '../../lib/raster/grid.js';
 import type { CrownOutlines, SurveySummary, TreeTable } from '../../lib/trees/table.js';
-import type { DemoKind } from '../../lib/worker/protocol.js';
+import type { AreaOfInterest, DemoKind } from '../../lib/worker/protocol.js';
 
 /**
  * The device store: one IndexedDB database, one store per kind of thing, so
@@ -25,6 +25,8 @@ export interface ProjectRecord {
   /** "EPSG:NNNN" typed by the user for files without a CRS. */
   crs?: string;
   options: Partial<TallyOptions>;
+  /** The area the runs are limited to (a drawn rectangle or an imported boundary); absent = whole survey. */
+  aoi?: AreaOfInterest;
   readouts?: SurveyReadout[];
   /**
    * 'complete' once every record the project needs is stored; written last
