@@ -45,6 +45,8 @@ export class MapView {
   private legend: HTMLElement;
   private fitted = false;
   private rectDraw: RectDraw | null = null;
+  /** Rings (survey CRS) of the area the run was limited to; outside it the map holds no trees. */
+  private areaRings: number[][][] | null = null;
   /** A click that ends a drag is not a tap on a crown. */
   private swallowClick = false;
   private readonly onKey = (ev: KeyboardEvent) => { if (ev.key === 'Escape' && this.rectDraw) this.endRectangle(null); };
@@ -114,6 +116,12 @@ export class MapView {
     select(this.canvas).on('.zoom', null);
     this.canvas.classList.add('is-drawing');
     document.addEventListener('keydown', this.onKey);
+    this.schedule();
+  }
+
+  /** Shows the area of interest: outside it is veiled (nothing there was processed). */
+  setArea(rings: number[][][] | null): void {
+    this.areaRings = rings;
     this.schedule();
   }
 
@@ -346,6 +354,23 @@ export class MapView {
       if (!p) continue;
       g.lineWidth = (width + 2) * px; g.strokeStyle = '#000000'; g.stroke(p);
       g.lineWidth = width * px; g.strokeStyle = colour; g.stroke(p);
+    }
+    if (this.areaRings) {
+      const p = new Path2D();
+      for (const ring of this.areaRings) {
+        ring.forEach((v, i) => {
+          const ax = (v[0]! - chm.originX) / cs, ay = (chm.originY - v[1]!) / cs;
+          if (i === 0) p.moveTo(ax, ay); else p.lineTo(ax, ay);
+        });
+        p.closePath();
+      }
+      const veil = new Path2D();
+      veil.rect(-1, -1, chm.width + 2, chm.height + 2);
+      veil.addPath(p);
+      g.fillStyle = MARK.outsideArea; g.fill(veil, 'evenodd');
+      g.setLineDash([6 * px, 4 * px]);
+      g.lineWidth = 3 * px; g.strokeStyle = MARK.areaEdge; g.stroke(p);
+      g.setLineDash([]);
     }
     const d = this.rectDraw;
     if (d?.from && d.to) {

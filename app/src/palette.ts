@@ -25,6 +25,9 @@ export const MARK = {
   /** Area being drawn: a dashed outline over a light veil, readable on every canopy colour. */
   area: '#ffffff',
   areaFill: 'rgba(255, 255, 255, 0.25)',
+  /** Outside the processed area: a grey veil, and its edge dashed in near-black. */
+  outsideArea: 'rgba(90, 90, 90, 0.55)',
+  areaEdge: '#111111',
 } as const;
 
 /** RGB of a height on a ramp from 0 to maxM. */

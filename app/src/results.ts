@@ -13,6 +13,7 @@ import { sideView, type SideColouring } from './sideview.js';
 import type { AreaOfInterest, TreePoints } from '../../lib/worker/protocol.js';
 import type { ProgressEvent } from '../../lib/result.js';
 import { boundaryFromGeoJSON, BoundaryError, MAX_BOUNDARY_BYTES } from './boundary.js';
+import { makeLonLatTransform } from '../../lib/crs/transform.js';
 
 /**
  * The results of a survey: map and tree list side by side on wide screens
@@ -85,6 +86,7 @@ export async function openResults(main: HTMLElement, store: FieldStore, jobs: Jo
   showUnplaced();
   refreshAll();
   renderAreaBar();
+  map.setArea(areaRings());
 
   // Browser-test view of the current run (present only when the page was opened with ?test-hooks=1).
   const hooks = (globalThis as unknown as { __crowntally?: Record<string, unknown> }).__crowntally;
@@ -144,6 +146,20 @@ export async function openResults(main: HTMLElement, store: FieldStore, jobs: Jo
       return `Limited to a drawn rectangle of ${fmt((a.maxX - a.minX) * u, 0)} m \u00d7 ${fmt((a.maxY - a.minY) * u, 0)} m.`;
     }
     return 'Limited to an imported boundary.';
+  }
+
+  /** The area as rings in the survey CRS for the map; null for the whole survey or if it cannot be placed. */
+  function areaRings(): number[][][] | null {
+    const a = project.aoi;
+    if (!a) return null;
+    if (a.kind === 'rect') return [[[a.minX, a.minY], [a.maxX, a.minY], [a.maxX, a.maxY], [a.minX, a.maxY]]];
+    if (!a.lonLat) return a.rings;
+    try {
+      const t = makeLonLatTransform(meta.crs);
+      return a.rings.map((ring) => ring.map((p) => t.fromLonLat(p[0]!, p[1]!)));
+    } catch {
+      return null; // the run itself needed the CRS, so this only happens with an edited record
+    }
   }
 
   function renderAreaBar(): void {
