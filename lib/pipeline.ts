@@ -206,6 +206,7 @@ export async function tallyClouds(clouds: PointCloud[], options: TallyOptions, r
   if (aoi) area = rectIntersect(area, aoiBounds(aoi));
   if (run.clip) area = area && rectIntersect(area, run.clip);
   if (!area) throw new CrowntallyError('EMPTY', 'the area of interest does not overlap the survey');
+  if (aoi) warnings.push('the survey was limited to an area of interest: trees are those with their top inside it, and a crown that crosses its edge is measured only inside it');
   // Half-open edges in markInside: widen by a hair so the survey's own max points
   // stay in; only there, since an area's or a tile's own max edge must stay exact
   // (the hair is millimetres at UTM northings).

@@ -266,7 +266,9 @@ async function setupScreen(p: ProjectRecord): Promise<void> {
   main.replaceChildren(
     h('section', { class: 'card' }, h('h1', {}, p.name), h('h2', {}, 'What is in the survey'), readoutBox, crsBox),
     h('section', { class: 'card' }, h('h2', {}, 'Settings'), form),
-    h('section', { class: 'card' }, h('div', { class: 'row' }, start, cancel, openBtn), progressBox, status),
+    h('section', { class: 'card' },
+      p.aoi ? h('p', { class: 'hint', id: 'setup-area' }, 'Processing is limited to the area of interest set on the results screen ("Use whole survey" there removes it).') : null,
+      h('div', { class: 'row' }, start, cancel, openBtn), progressBox, status),
   );
 
   const stageNames: Record<string, string> = {

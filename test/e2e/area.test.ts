@@ -12,7 +12,8 @@ import { serveDist, type TestServer } from './server.js';
  * The field app in Debian's Chromium: limiting the demo park to an area.
  * A rectangle dragged on the map keeps only trees inside it; a GeoJSON
  * boundary file (RFC 7946 lon/lat) replaces it; a reload keeps the area;
- * "Use whole survey" removes it. Pages open with ?test-hooks=1.
+ * processing again from the settings screen keeps it; "Use whole survey"
+ * removes it. Pages open with ?test-hooks=1.
  */
 
 const here = path.dirname(fileURLToPath(import.meta.url));
@@ -169,6 +170,14 @@ describe('field app in Chromium: area of interest', () => {
     await page.locator('.trows .trow').first().waitFor({ timeout: 60_000 });
     expect((await area(page))?.kind).toBe('polygon');
     expect(await page.locator('#area-note').textContent()).toContain('imported boundary');
+    expect((await trees(page)).x).toEqual(before.x);
+
+    // Processing again from the settings screen keeps the area too.
+    await page.locator('button', { hasText: 'Change settings and reprocess' }).click();
+    await page.locator('#setup-area').waitFor({ timeout: 30_000 });
+    await page.locator('#start').click();
+    await page.locator('#area-note').waitFor({ timeout: 150_000 });
+    await expect.poll(async () => (await area(page))?.kind ?? null, { timeout: 30_000 }).toBe('polygon');
     expect((await trees(page)).x).toEqual(before.x);
 
     await page.locator('[data-action="area-clear"]').click();

@@ -37,6 +37,8 @@ describe('area of interest', async () => {
     expect(whole.trees.count).toBeGreaterThan(20);
     expect(part.trees.count).toBeGreaterThan(5);
     expect(part.trees.count).toBeLessThan(whole.trees.count);
+    expect(part.warnings.some((w) => w.includes('area of interest'))).toBe(true);
+    expect(whole.warnings.some((w) => w.includes('area of interest'))).toBe(false);
     const P = part.trees.columns;
     for (let i = 0; i < part.trees.count; i++) {
       expect(P.x[i]!).toBeGreaterThanOrEqual(rect.minX);
