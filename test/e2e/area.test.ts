@@ -94,12 +94,25 @@ describe('field app in Chromium: area of interest', () => {
     // Esc leaves drawing without changing anything.
     await page.keyboard.press('Escape');
     await page.locator('[data-action="area-draw"]').waitFor();
+    // A correction in the middle of the map (a tree deleted) must follow its tree through the reprocessing.
+    const screenAll = () => page.evaluate((n) => Array.from({ length: n }, (_v, i) => (window as unknown as Hooks).__crowntally.results.screenOf(i)), whole.x.length);
+    await page.locator('.map-canvas').scrollIntoViewIfNeeded();
+    let box = (await page.locator('.map-canvas').boundingBox())!;
+    let screen = await screenAll();
+    let del = -1, bestD = Infinity;
+    screen.forEach((s, i) => { if (s) { const d = Math.hypot(s[0] - box.width * 0.5, s[1] - box.height * 0.475); if (d < bestD) { bestD = d; del = i; } } });
+    expect(del).toBeGreaterThanOrEqual(0);
+    await page.mouse.click(box.x + screen[del]![0], box.y + screen[del]![1]);
+    await page.locator('[data-action="delete"]').click();
+    await page.locator('.saved', { hasText: 'Saved' }).waitFor();
+    expect(await kept(page)).toBe(whole.x.length - 1);
+
     await page.locator('[data-action="area-draw"]').click();
     await page.locator('.map-canvas').scrollIntoViewIfNeeded();
-    const box = (await page.locator('.map-canvas').boundingBox())!;
+    box = (await page.locator('.map-canvas').boundingBox())!;
+    // Screen positions of the tops just before the drag (the map does not move while drawing).
+    screen = await screenAll();
     const x0 = box.x + box.width * 0.3, y0 = box.y + box.height * 0.25, x1 = box.x + box.width * 0.7, y1 = box.y + box.height * 0.7;
-    // Screen positions of the tops before the drag (the map does not move while drawing).
-    const screen = await page.evaluate((n) => Array.from({ length: n }, (_v, i) => (window as unknown as Hooks).__crowntally.results.screenOf(i)), whole.x.length);
     await page.mouse.move(x0, y0);
     await page.mouse.down();
     await page.mouse.move((x0 + x1) / 2, (y0 + y1) / 2, { steps: 5 });
@@ -131,8 +144,16 @@ describe('field app in Chromium: area of interest', () => {
     expect(checkedIn).toBeGreaterThan(2);
     expect(checkedOut).toBeGreaterThan(2);
     expect(await page.locator('#area-note').textContent()).toContain('drawn rectangle');
-    expect(await kept(page)).toBe(now.x.length);
+    expect(await kept(page)).toBe(now.x.length - 1); // the deleted tree is still deleted
+    await page.locator('.map-card').evaluate((el) => el.scrollIntoView({ block: 'start' }));
+    await page.evaluate(() => window.scrollBy(0, -80)); // clear of the sticky header
     await page.screenshot({ path: path.join(shots, '21-area-rectangle-1280.png') });
+    await page.setViewportSize({ width: 768, height: 1024 });
+    await page.waitForTimeout(250);
+    await page.locator('.map-card').evaluate((el) => el.scrollIntoView({ block: 'start' }));
+    await page.evaluate(() => window.scrollBy(0, -80));
+    await page.screenshot({ path: path.join(shots, '21-area-rectangle-768.png') });
+    await page.setViewportSize({ width: 1280, height: 900 });
   });
 
   it('a GeoJSON boundary replaces the rectangle; a bad file gets a clear message', async () => {
@@ -184,6 +205,7 @@ describe('field app in Chromium: area of interest', () => {
     await settled(page, null);
     expect(await area(page)).toBeNull();
     expect((await trees(page)).x.length).toBe(whole.x.length);
+    expect(await kept(page)).toBe(whole.x.length - 1);
     expect(await page.locator('[data-action="area-clear"]').count()).toBe(0);
     expect(pageErrors).toEqual([]);
   });
