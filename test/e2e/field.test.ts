@@ -257,7 +257,8 @@ describe('field app in Chromium: side view, merge, large lists, safe storage', (
     for (const e of earlier) {
       await open(p3, `#/results/${e.id}`);
       await p3.locator('.trows .trow').first().waitFor({ timeout: 60_000 });
-      expect(await p3.locator('.count').first().textContent()).toContain(`of ${e.info.split(' ')[0]} trees`);
+      // Only the hash changes between surveys, so the previous survey's list may still be up: wait for this one's.
+      await expect.poll(async () => await p3.locator('.count').first().textContent(), { timeout: 60_000 }).toContain(`of ${e.info.split(' ')[0]} trees`);
     }
     await p3.close();
   });
