@@ -1,45 +1,12 @@
 import 'fake-indexeddb/auto';
 import { openDB } from 'idb';
 import { describe, expect, it } from 'vitest';
-import { openStore, type StoredRun } from '../../app/src/store.js';
-import { emptyColumns, type CrownOutlines } from '../../lib/trees/table.js';
+import { openStore } from '../../app/src/store.js';
+import { freshName, meta, run } from './fixtures.js';
 
 // Behaviour tests of the device store on fake-indexeddb, an implementation of
 // the W3C Indexed Database API (the source for transaction rollback: a
 // transaction that fails is aborted and none of its writes are kept).
-
-let dbCount = 0;
-const freshName = () => `field-test-${++dbCount}-${Math.random().toString(36).slice(2)}`;
-
-function outlines(): CrownOutlines {
-  return {
-    coords: new Float64Array([0, 0, 1, 0, 1, 1, 0, 0]),
-    ringStart: new Uint32Array([0, 4]),
-    ringKind: new Uint8Array([0]),
-    treeRingStart: new Uint32Array([0, 1]),
-  };
-}
-
-function run(count: number, height: number): StoredRun {
-  const columns = emptyColumns(count);
-  for (let i = 0; i < count; i++) {
-    columns.tree_id[i] = i + 1;
-    columns.x[i] = 10 * i;
-    columns.y[i] = 5;
-    columns.height_m[i] = height;
-  }
-  const grid = { width: 2, height: 2, cellSize: 1, originX: 0, originY: 2 };
-  return {
-    trees: { count, columns, profileLayerM: 1, profileLayers: 1, profiles: new Uint32Array(count), returnHistogram: new Uint32Array(count * 15), hasReturns: true, hasRgb: false },
-    outlines: outlines(),
-    chm: { ...grid, data: new Float32Array([height, 0, 0, 0]) },
-    dtm: { ...grid, data: new Float32Array(4) },
-    labels: { ...grid, data: new Int32Array([1, 0, 0, 0]) },
-  };
-}
-
-const summary = { treeCount: 1, areaM2: 4, treesPerHa: 2500, canopyCover: 0.25, heightHistogram: { binM: 1, counts: [] }, profile: { layerM: 1, counts: [] }, meanHeightM: 7, maxHeightM: 7 };
-const meta = (n: number) => ({ at: 1, treeCount: n, summary, warnings: [], crs: { epsg: 32633, wkt: null, proj4: null, unitM: 1, verticalUnitM: 1, unitName: 'metre', notes: [] }, usedOptions: { cellSizeM: 0.5 } as never });
 
 describe('field store', () => {
   it('creates, lists and deletes projects with their files, runs and edits', async () => {
