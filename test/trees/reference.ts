@@ -6,6 +6,10 @@ import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import type { Grid } from '../../lib/raster/grid.js';
+// The same small seeded generator (mulberry32) as the raster benchmarks, so every run sees the same canopy.
+import { rng } from '../../bench/synthetic.js';
+
+export { rng };
 
 const here = path.dirname(fileURLToPath(import.meta.url));
 export const REF_SCRIPT = path.resolve(here, '../reference/watershed_ref.py');
@@ -20,18 +24,6 @@ export function referenceAvailable(): boolean {
   } catch {
     return false;
   }
-}
-
-/** Small seeded generator (mulberry32), so every run sees the same canopy. */
-export function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
 }
 
 export interface Canopy { grid: Grid; trees: { cx: number; cy: number; h: number; r: number }[] }
