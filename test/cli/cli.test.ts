@@ -15,6 +15,7 @@ import { fromArrayBuffer } from 'geotiff';
 import Papa from 'papaparse';
 import proj4 from 'proj4';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { cli, ensureBuilt, ROOT, type CliRun as Run } from '../built.js';
 import { CAUTION } from '../../lib/export/caution.js';
 import { fileSource } from '../../lib/node/file-source.js';
 import { nodeLazPerf } from '../../lib/node/laz-perf.js';
@@ -22,25 +23,12 @@ import { tally } from '../../lib/pipeline.js';
 import type { TallyResult } from '../../lib/result.js';
 
 const here = path.dirname(fileURLToPath(import.meta.url));
-const ROOT = path.resolve(here, '../..');
 const FIXTURES = path.resolve(ROOT, '../shared/fixtures/laz-pairs');
 const AUTZEN_LAZ = path.join(FIXTURES, 'autzen_trim.laz');
 const AUTZEN_LAS = path.join(FIXTURES, 'autzen_trim.las');
-const BIN = path.join(ROOT, 'bin/crowntally.js');
 const PY = '/usr/bin/python3';
 
-/** The bin runs the compiled library: build it once when dist/ is missing. */
-function ensureBuilt(): void {
-  if (existsSync(path.join(ROOT, 'dist/lib/node/cli.js'))) return;
-  const r = spawnSync(process.execPath, [path.join(ROOT, 'node_modules/typescript/bin/tsc'), '-p', 'tsconfig.build.json'], { cwd: ROOT, encoding: 'utf8' });
-  if (r.status !== 0) throw new Error(`build failed: ${r.stdout}${r.stderr}`);
-}
 
-interface Run { code: number | null; stdout: string; stderr: string }
-function cli(...args: string[]): Run {
-  const r = spawnSync(process.execPath, [BIN, ...args], { cwd: ROOT, encoding: 'utf8', timeout: 60_000 });
-  return { code: r.status, stdout: r.stdout, stderr: r.stderr };
-}
 
 /** Contract: exit 2 with exactly one stderr line, starting `error:`, and no stack trace. */
 function expectBadInput(r: Run): string {

@@ -12,24 +12,13 @@ import { fileURLToPath } from 'node:url';
 import Papa from 'papaparse';
 import proj4 from 'proj4';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { cli, ensureBuilt, ROOT, type CliRun as Run } from '../built.js';
 import { buildScene, scanDemo, toPointChunk } from '../../demo/index.js';
 import { writeLas } from '../../lib/io/las-writer.js';
 
 const here = path.dirname(fileURLToPath(import.meta.url));
-const ROOT = path.resolve(here, '../..');
-const BIN = path.join(ROOT, 'bin/crowntally.js');
 
-function ensureBuilt(): void {
-  if (existsSync(path.join(ROOT, 'dist/lib/node/cli.js'))) return;
-  const r = spawnSync(process.execPath, [path.join(ROOT, 'node_modules/typescript/bin/tsc'), '-p', 'tsconfig.build.json'], { cwd: ROOT, encoding: 'utf8' });
-  if (r.status !== 0) throw new Error(`build failed: ${r.stdout}${r.stderr}`);
-}
 
-interface Run { code: number | null; stdout: string; stderr: string }
-function cli(...args: string[]): Run {
-  const r = spawnSync(process.execPath, [BIN, ...args], { cwd: ROOT, encoding: 'utf8', timeout: 60_000 });
-  return { code: r.status, stdout: r.stdout, stderr: r.stderr };
-}
 
 let work: string, las: string, xyz: string;
 beforeAll(() => {

@@ -11,6 +11,7 @@ import { existsSync } from 'node:fs';
 import path from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { ensureBuilt as buildOnce, ROOT, WORKER } from '../built.js';
 import { generateSurvey } from '../../demo/index.js';
 import type { ChunkDecoder } from '../../lib/io/chunk-stream.js';
 import { bufferSource } from '../../lib/io/sources.js';
@@ -24,15 +25,8 @@ import { WorkerPool } from '../../lib/worker/pool.js';
 import { poolDecoder } from '../../lib/worker/pool-decoder.js';
 
 const here = path.dirname(fileURLToPath(import.meta.url));
-const ROOT = path.resolve(here, '../..');
 const AUTZEN_LAZ = path.resolve(ROOT, '../shared/fixtures/laz-pairs/autzen_trim.laz');
-const WORKER = path.join(ROOT, 'dist/lib/node/worker-main.js');
 
-function ensureBuilt(): void {
-  if (existsSync(WORKER)) return;
-  const r = spawnSync(process.execPath, [path.join(ROOT, 'node_modules/typescript/bin/tsc'), '-p', 'tsconfig.build.json'], { cwd: ROOT, encoding: 'utf8' });
-  if (r.status !== 0) throw new Error(`build failed: ${r.stdout}${r.stderr}`);
-}
 
 /** Two results hold the same trees: every column (NaN equal to NaN), profiles, histograms, outlines. */
 function expectSameTrees(a: TallyResult, b: TallyResult): void {
@@ -56,7 +50,7 @@ let calls = 0;
 let decoder: ChunkDecoder;
 
 beforeAll(() => {
-  ensureBuilt();
+  buildOnce('dist/lib/node/worker-main.js');
   pool = new WorkerPool(() => nodeWorker(pathToFileURL(WORKER)), 2);
   const inner = poolDecoder(pool);
   decoder = Object.assign((req: Parameters<ChunkDecoder>[0]) => { calls++; return inner(req); }, { parallelism: inner.parallelism });

@@ -8,22 +8,18 @@ import { existsSync } from 'node:fs';
 import path from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { ensureBuilt, ROOT, WORKER } from '../built.js';
 import { nodeWorker } from '../../lib/node/worker-adapter.js';
 import type { ProgressEvent } from '../../lib/result.js';
 import { TallyClient } from '../../lib/worker/client.js';
 
 const here = path.dirname(fileURLToPath(import.meta.url));
-const ROOT = path.resolve(here, '../..');
 const FIXTURES = path.resolve(ROOT, '../shared/fixtures/laz-pairs');
 const AUTZEN_LAZ = path.join(FIXTURES, 'autzen_trim.laz');
-const WORKER = path.join(ROOT, 'dist/lib/node/worker-main.js');
 
 let client: TallyClient;
 beforeAll(() => {
-  if (!existsSync(WORKER)) {
-    const r = spawnSync(process.execPath, [path.join(ROOT, 'node_modules/typescript/bin/tsc'), '-p', 'tsconfig.build.json'], { cwd: ROOT, encoding: 'utf8' });
-    if (r.status !== 0) throw new Error(`build failed: ${r.stdout}${r.stderr}`);
-  }
+  ensureBuilt('dist/lib/node/worker-main.js');
   client = new TallyClient(nodeWorker(pathToFileURL(WORKER)));
 });
 afterAll(() => client?.terminate());
