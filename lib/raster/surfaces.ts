@@ -170,38 +170,47 @@ export class SurfaceAccumulator {
     const dropOverlap = this.dropOverlap;
     const useG = this.useGroundClass;
     const { max1, max2, count, building, multi, lowZ, lowDx, lowDy, gZ, gDx, gDy } = this;
+    // Tallies live in locals during the loop and are written back once: a
+    // field write in a rarely taken branch would cost the loop its optimised code.
+    let used = 0, noise = 0, withheld = 0, overlap = 0, outside = 0, groundSeen = false, buildingSeen = false;
     for (let i = 0; i < n; i++) {
-      const c = cls[i];
-      if (c === CLASS_LOW_NOISE || c === CLASS_HIGH_NOISE) { this.noise++; continue; }
-      const f = flags[i];
-      if (f & FLAG_WITHHELD) { this.withheld++; continue; }
-      if (dropOverlap && (f & FLAG_OVERLAP || c === CLASS_OVERLAP_LEGACY)) { this.overlap++; continue; }
-      const px = x[i], py = y[i], pz = z[i] * vu;
+      const c = cls[i]!;
+      if (c === CLASS_LOW_NOISE || c === CLASS_HIGH_NOISE) { noise++; continue; }
+      const f = flags[i]!;
+      if (f & FLAG_WITHHELD) { withheld++; continue; }
+      if (dropOverlap && (f & FLAG_OVERLAP || c === CLASS_OVERLAP_LEGACY)) { overlap++; continue; }
+      const px = x[i]!, py = y[i]!, pz = z[i]! * vu;
       const fc = (px - originX) * inv;
       const fr = (originY - py) * inv;
       // NaN fails both comparisons, so non-finite coordinates land here too.
-      if (!(fc >= 0 && fc < width && fr >= 0 && fr < height && Number.isFinite(pz))) { this.outside++; continue; }
+      if (!(fc >= 0 && fc < width && fr >= 0 && fr < height && pz - pz === 0)) { outside++; continue; }
       const col = fc | 0, row = fr | 0;
       const k = row * width + col;
-      this.used++;
-      count[k]++;
-      if (nret[i]! > 1) multi[k]++;
-      if (pz > max1[k]) { max2[k] = max1[k]; max1[k] = pz; } else if (pz > max2[k]) max2[k] = pz;
-      if (pz < lowZ[k]) {
+      used++;
+      count[k]!++;
+      if (nret[i]! > 1) multi[k]!++;
+      // Highest and second highest without data-dependent branches.
+      const m1 = max1[k]!;
+      max1[k] = Math.max(m1, pz);
+      max2[k] = Math.max(max2[k]!, Math.min(m1, pz));
+      if (pz < lowZ[k]!) {
         lowZ[k] = pz;
         lowDx[k] = px - (originX + col * cellSize);
         lowDy[k] = (originY - row * cellSize) - py;
       }
-      if (c === CLASS_BUILDING) { building[k]++; this.buildingSeen = true; }
+      if (c === CLASS_BUILDING) { building[k]!++; buildingSeen = true; }
       else if (c === CLASS_GROUND) {
-        this.groundSeen = true;
-        if (useG && pz < gZ[k]) {
+        groundSeen = true;
+        if (useG && pz < gZ[k]!) {
           gZ[k] = pz;
           gDx[k] = px - (originX + col * cellSize);
           gDy[k] = (originY - row * cellSize) - py;
         }
       }
     }
+    this.used += used; this.noise += noise; this.withheld += withheld; this.overlap += overlap; this.outside += outside;
+    if (groundSeen) this.groundSeen = true;
+    if (buildingSeen) this.buildingSeen = true;
   }
 
   /** Applies the outlier tests and returns the surfaces. The accumulator cannot be used afterwards. */
