@@ -23,16 +23,34 @@ function rgbOffset(f: number): number {
   return -1;
 }
 
+/**
+ * A chunk of `count` zeroed points with the fields of `pointFormat`. All
+ * fields are views into one buffer (widest type first, so every view is
+ * aligned): one allocation per chunk keeps the garbage collector's share of
+ * a large read small, and a transfer moves one buffer.
+ */
 export function allocChunk(count: number, pointFormat: number): PointChunk {
+  const time = formatHasTime(pointFormat), rgb = formatHasRgb(pointFormat), nir = formatHasNir(pointFormat);
+  const n = count;
+  const bytes = n * ((3 + (time ? 1 : 0)) * 8 + 4 + (1 + (rgb ? 3 : 0) + (nir ? 1 : 0)) * 2 + 4);
+  const buf = new ArrayBuffer(bytes);
+  let at = 0;
+  const f64 = () => { const a = new Float64Array(buf, at, n); at += 8 * n; return a; };
+  const f32 = () => { const a = new Float32Array(buf, at, n); at += 4 * n; return a; };
+  const u16 = () => { const a = new Uint16Array(buf, at, n); at += 2 * n; return a; };
+  const u8 = () => { const a = new Uint8Array(buf, at, n); at += n; return a; };
+  const x = f64(), y = f64(), z = f64();
+  const gpsTime = time ? f64() : undefined;
+  const scanAngleDeg = f32();
+  const intensity = u16();
+  const red = rgb ? u16() : undefined, green = rgb ? u16() : undefined, blue = rgb ? u16() : undefined;
+  const nirA = nir ? u16() : undefined;
   const c: PointChunk = {
-    count,
-    x: new Float64Array(count), y: new Float64Array(count), z: new Float64Array(count),
-    intensity: new Uint16Array(count), returnNumber: new Uint8Array(count), numberOfReturns: new Uint8Array(count),
-    classification: new Uint8Array(count), flags: new Uint8Array(count), scanAngleDeg: new Float32Array(count),
+    count, x, y, z, intensity, returnNumber: u8(), numberOfReturns: u8(), classification: u8(), flags: u8(), scanAngleDeg,
   };
-  if (formatHasTime(pointFormat)) c.gpsTime = new Float64Array(count);
-  if (formatHasRgb(pointFormat)) { c.red = new Uint16Array(count); c.green = new Uint16Array(count); c.blue = new Uint16Array(count); }
-  if (formatHasNir(pointFormat)) c.nir = new Uint16Array(count);
+  if (gpsTime) c.gpsTime = gpsTime;
+  if (red && green && blue) { c.red = red; c.green = green; c.blue = blue; }
+  if (nirA) c.nir = nirA;
   return c;
 }
 
