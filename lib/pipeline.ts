@@ -28,6 +28,7 @@ import { rejectNonTrees } from './trees/nontree.js';
 import { traceOutlines } from './trees/outlines.js';
 import { TreeMetricsAccumulator } from './trees/metrics.js';
 import { ProfileAccumulator, surveySummary } from './trees/summary.js';
+import { pointHeightBuffers, pointHeights } from './trees/heights.js';
 import type { TreeTable } from './trees/table.js';
 import type { AreaOfInterest, TreePoints } from './worker/protocol.js';
 import { mergeReadouts } from './io/readout-merge.js';
@@ -324,19 +325,17 @@ export async function tallyClouds(clouds: PointCloud[], options: TallyOptions, r
   const profile = new ProfileAccumulator(dtm, { layerM: options.profileLayerM, verticalUnitM: vu });
   let done = 0;
   let keepMask = new Uint8Array(0);
-  let outlierMask = new Uint8Array(0);
+  const heights = pointHeightBuffers();
   const feed = (c: PointChunk) => {
-    // Returns the isolation test took out of the DSM stay out of the crowns' metrics too.
-    if (outlierMask.length < c.count) outlierMask = new Uint8Array(c.count);
-    const n = markBelowSurface(c, s.dsm, vu, outlierMask);
-    if (n < c.count) c = subsetChunk(c, outlierMask, n);
-    metrics.add(c);
+    // One pass places each point and measures its height; returns the isolation
+    // test took out of the DSM stay out of the crowns' metrics too.
+    pointHeights(c, s.dsm, dtm, vu, heights);
+    metrics.addHeights(c, heights);
     if (run.keep) {
       // Tiles: the survey-wide profile counts each point once, in the tile that owns it.
       if (keepMask.length < c.count) keepMask = new Uint8Array(c.count);
-      const n = markInside(c, run.keep, keepMask);
-      if (n > 0) profile.add(n === c.count ? c : subsetChunk(c, keepMask, n));
-    } else profile.add(c);
+      if (markInside(c, run.keep, keepMask) > 0) profile.addHeights(heights, keepMask);
+    } else profile.addHeights(heights);
     done += c.count;
     progress.report('metrics', done / Math.max(1, read));
   };
@@ -361,30 +360,6 @@ export async function tallyClouds(clouds: PointCloud[], options: TallyOptions, r
   for (const w of readout.warnings) if (!warnings.includes(w)) warnings.push(w);
   run.onProgress?.({ stage: 'done', fraction: 1, pointsRead: read, pointsTotal });
   return { readout, crs, options: { ...options, cellSizeM }, chm, dtm, labels, trees, summary, warnings };
-}
-
-/**
- * Marks the points at or below the (outlier-cleaned) DSM of their cell; a
- * point above it is a return the isolation test removed. Points outside the
- * grid are kept (later stages ignore them).
- */
-function markBelowSurface(c: PointChunk, dsm: Grid, vu: number, keep: Uint8Array): number {
-  const { width, height, cellSize, originX, originY, data } = dsm;
-  const inv = 1 / cellSize;
-  const { x, y, z, classification, flags } = c;
-  let n = 0;
-  for (let i = 0; i < c.count; i++) {
-    const fc = (x[i]! - originX) * inv, fr = (originY - y[i]!) * inv;
-    let k = 1;
-    if (fc >= 0 && fc < width && fr >= 0 && fr < height) {
-      const top = data[(fr | 0) * width + (fc | 0)]!;
-      // 1 mm slack for float32 rounding of the DSM.
-      if (Number.isNaN(top) ? classification[i] !== 7 && classification[i] !== 18 && (flags[i]! & 4) === 0 : z[i]! * vu > top + 1e-3) k = 0;
-    }
-    keep[i] = k;
-    n += k;
-  }
-  return n;
 }
 
 /** Drops trees whose top lies outside `keep` (tiles) and renumbers labels compactly. */

@@ -4,6 +4,7 @@ import type { Grid } from '../raster/grid.js';
 import type { Treetops } from './treetops.js';
 import { emptyColumns, MAX_RETURN_NUMBER, type CrownOutlines, type TreeTable } from './table.js';
 import { outlineArea, outlineExtent, outlinePerimeter } from './outlines.js';
+import { pointHeightBuffers, pointHeights, sameCells, type PointHeights } from './heights.js';
 
 export interface TreeMetricsOptions {
   /** Layer thickness (m) of the per-tree vertical profile. */
@@ -61,6 +62,7 @@ export class TreeMetricsAccumulator {
   private readonly profiles: Uint32Array;
   private readonly dropOverlap: boolean;
   private readonly floorM: number;
+  private readonly scratch = pointHeightBuffers();
 
   constructor(
     private readonly labels: Grid<Int32Array>,
@@ -91,43 +93,40 @@ export class TreeMetricsAccumulator {
     this.profiles = new Uint32Array(n * this.layers);
     this.dropOverlap = opts.dropOverlap ?? true;
     this.floorM = opts.percentileFloorM ?? 2;
+    if (!sameCells(labels, dtm)) throw new CrowntallyError('BAD_OPTIONS', 'the crown label grid and the DTM must share one geometry');
   }
 
+  /** Adds one chunk of points (noise, withheld and, by default, overlap points left out). */
   add(chunk: PointChunk): void {
+    this.addHeights(chunk, pointHeights(chunk, null, this.dtm, this.opts.verticalUnitM, this.scratch, this.dropOverlap));
+  }
+
+  /** Adds a chunk whose cells and heights above ground are already known (on the label grid). */
+  addHeights(chunk: PointChunk, ph: PointHeights): void {
+    if (!sameCells(ph.grid, this.labels) || ph.count !== chunk.count) throw new CrowntallyError('INTERNAL', 'point heights do not belong to this chunk and label grid');
     // Fields and chunk arrays in locals: the loop runs once per point.
-    const L = this.labels, D = this.dtm;
-    const vu = this.opts.verticalUnitM, layerM = this.opts.profileLayerM, layers = this.layers;
+    const lab = this.labels.data, cell = ph.cell, hm = ph.heightM;
+    const layerM = this.opts.profileLayerM, layers = this.layers;
     const hasRet = this.opts.hasReturns;
     const rgbOn = this.opts.hasRgb && !!chunk.red && !!chunk.green && !!chunk.blue;
-    const lab = L.data, dd = D.data;
-    const lx = L.originX, ly = L.originY, lcs = L.cellSize, lw = L.width, lh = L.height;
-    const gx = D.originX, gy = D.originY, gcs = D.cellSize, gw = D.width, gh = D.height;
-    const nTrees = this.n, dropOverlap = this.dropOverlap, floorM = this.floorM;
+    const nTrees = this.n, floorM = this.floorM;
     const { count, maxH, intSum, intMax, ground, returnHist, first, last, single, inter, hist, binM, profiles, rgb, rgbCount } = this;
-    const { classification, flags, x: xs, y: ys, z: zs, intensity, returnNumber, numberOfReturns, red, green, blue } = chunk;
+    const { classification, intensity, returnNumber, numberOfReturns, red, green, blue } = chunk;
     for (let p = 0; p < chunk.count; p++) {
-      const cls = classification[p]!;
-      if (cls === 7 || cls === 18) continue;
-      const fl = flags[p]!;
-      if (fl & FLAG_WITHHELD || (dropOverlap && fl & FLAG_OVERLAP)) continue;
-      const x = xs[p]!, y = ys[p]!;
-      const c = Math.floor((x - lx) / lcs), r = Math.floor((ly - y) / lcs);
-      if (!(c >= 0 && c < lw && r >= 0 && r < lh)) continue;
-      const t = lab[r * lw + c]!;
+      const cp = cell[p]!;
+      if (cp < 0) continue;
+      const t = lab[cp]!;
       if (t <= 0 || t > nTrees) continue;
-      const dc = Math.floor((x - gx) / gcs), dr = Math.floor((gy - y) / gcs);
-      if (!(dc >= 0 && dc < gw && dr >= 0 && dr < gh)) continue;
-      const g = dd[dr * gw + dc]!;
-      if (!Number.isFinite(g)) continue;
-      const h = zs[p]! * vu - g;
-      if (!Number.isFinite(h)) continue;
+      const h = hm[p]!;
+      // NaN (no ground under the point) fails.
+      if (!(h - h === 0)) continue;
       const k = t - 1;
       count[k]!++;
       if (h > maxH[k]!) maxH[k] = h;
       const it = intensity[p]!;
       intSum[k]! += it;
       if (it > intMax[k]!) intMax[k] = it;
-      if (cls === 2 || h < GROUND_HEIGHT_M) ground[k]!++;
+      if (classification[p] === 2 || h < GROUND_HEIGHT_M) ground[k]!++;
       if (hasRet) {
         const rn = returnNumber[p]!, nr = numberOfReturns[p]!;
         if (rn > 0) {

@@ -1,7 +1,8 @@
 import { CrowntallyError } from '../errors.js';
-import { FLAG_OVERLAP, FLAG_WITHHELD, type PointChunk } from '../io/types.js';
+import type { PointChunk } from '../io/types.js';
 import type { Grid } from '../raster/grid.js';
 import type { SurveySummary, TreeTable } from './table.js';
+import { pointHeightBuffers, pointHeights, type PointHeights } from './heights.js';
 
 /** Tallest height (m) the whole-area profile keeps; higher returns (birds, cranes, outliers) land in the top layer. */
 const MAX_PROFILE_M = 150;
@@ -17,6 +18,7 @@ export class ProfileAccumulator {
   private readonly vu: number;
   private readonly dropOverlap: boolean;
   private top = -1;
+  private readonly scratch = pointHeightBuffers();
 
   constructor(private readonly dtm: Grid, opts: { layerM: number; verticalUnitM: number; dropOverlap?: boolean }) {
     if (!(opts.layerM > 0)) throw new CrowntallyError('BAD_OPTIONS', `profile layer must be a positive number of metres (got ${opts.layerM})`);
@@ -27,23 +29,20 @@ export class ProfileAccumulator {
     this.counts = new Float64Array(Math.max(1, Math.ceil(MAX_PROFILE_M / opts.layerM)));
   }
 
+  /** Adds one chunk of points (noise, withheld and, by default, overlap points left out). */
   add(chunk: PointChunk): void {
-    // Fields and chunk arrays in locals: the loop runs once per point.
-    const D = this.dtm, dd = D.data, counts = this.counts, n = counts.length;
-    const { originX, originY, cellSize, width, height } = D;
-    const vu = this.vu, layerM = this.layerM, dropOverlap = this.dropOverlap;
-    const { classification, flags, x, y, z } = chunk;
+    this.addHeights(pointHeights(chunk, null, this.dtm, this.vu, this.scratch, this.dropOverlap));
+  }
+
+  /** Adds points whose cells and heights above ground are known; with `only`, just those marked 1 in it. */
+  addHeights(ph: PointHeights, only?: Uint8Array): void {
+    const counts = this.counts, n = counts.length, layerM = this.layerM;
+    const cell = ph.cell, hm = ph.heightM;
     let top = this.top;
-    for (let p = 0; p < chunk.count; p++) {
-      const cls = classification[p]!;
-      if (cls === 7 || cls === 18) continue;
-      const fl = flags[p]!;
-      if (fl & FLAG_WITHHELD || (dropOverlap && fl & FLAG_OVERLAP)) continue;
-      const c = Math.floor((x[p]! - originX) / cellSize), r = Math.floor((originY - y[p]!) / cellSize);
-      if (!(c >= 0 && c < width && r >= 0 && r < height)) continue;
-      const g = dd[r * width + c]!;
-      const h = z[p]! * vu - g;
-      if (!Number.isFinite(h)) continue;
+    for (let p = 0; p < ph.count; p++) {
+      if (cell[p]! < 0 || (only && only[p] === 0)) continue;
+      const h = hm[p]!;
+      if (!(h - h === 0)) continue;
       const l = Math.min(n - 1, Math.max(0, Math.floor(h / layerM)));
       counts[l]!++;
       if (l > top) top = l;
