@@ -2,6 +2,7 @@ import { CrowntallyError } from '../errors.js';
 import { cellCenterX, cellCenterY, type Grid } from '../raster/grid.js';
 import type { WindowPreset, WindowTable } from '../options.js';
 import { windowFunction } from './window.js';
+import { grown } from './cells.js';
 
 /** Treetops as parallel typed arrays, ordered north to south, then west to east. */
 export interface Treetops {
@@ -67,25 +68,30 @@ export function findTreetops(chm: Grid, opts: TreetopOptions): Treetops {
   const win = windowFunction(opts.window);
   const minH = opts.minHeightM;
 
-  // 1 = survives the disc test.
+  // One pass over the grid; the cheap 3x3 test rules out most cells before the window is looked up.
+  // Survivors are listed in row-major order (and marked 1 in `cand`), so no later loop visits every cell.
   const cand = new Uint8Array(W * H);
+  let cands: Int32Array = new Int32Array(1024), nCand = 0;
   for (let r = 0; r < H; r++) {
     for (let c = 0; c < W; c++) {
       const i = r * W + c;
       const h = data[i]!;
       if (!(h >= minH)) continue; // NaN fails too
-      const radius = discRadiusCells(win(h), chm.cellSize, unitM);
       if (!isMax3x3(data, W, H, c, r, h)) continue;
-      if (isDiscMax(data, W, H, c, r, h, radius)) cand[i] = 1;
+      if (!isDiscMax(data, W, H, c, r, h, discRadiusCells(win(h), chm.cellSize, unitM))) continue;
+      cand[i] = 1;
+      if (nCand === cands.length) cands = grown(cands, W * H);
+      cands[nCand++] = i;
     }
   }
 
   // One top per 8-connected equal-height component of survivors.
   const cols: number[] = [];
   const rows: number[] = [];
-  const stack = new Int32Array(W * H);
+  const stack = new Int32Array(nCand);
   const member: number[] = [];
-  for (let i = 0; i < W * H; i++) {
+  for (let k = 0; k < nCand; k++) {
+    const i = cands[k]!;
     if (cand[i] !== 1) continue;
     const h = data[i]!;
     let sp = 0;
@@ -104,8 +110,8 @@ export function findTreetops(chm: Grid, opts: TreetopOptions): Treetops {
         for (let dc = -1; dc <= 1; dc++) {
           const nc = jc + dc;
           if (nc < 0 || nc >= W) continue;
-          const k = nr * W + nc;
-          if (cand[k] === 1 && data[k] === h) { cand[k] = 2; stack[sp++] = k; }
+          const q = nr * W + nc;
+          if (cand[q] === 1 && data[q] === h) { cand[q] = 2; stack[sp++] = q; }
         }
       }
     }
