@@ -3,6 +3,7 @@ import type { Grid } from '../raster/grid.js';
 import type { WindowPreset, WindowTable } from '../options.js';
 import type { Treetops } from './treetops.js';
 import { windowFunction } from './window.js';
+import { cellsAtLeast, grown } from './cells.js';
 
 export interface CrownOptions {
   /** Cells below this height (m) are not crown. */
@@ -84,21 +85,25 @@ export function growCrowns(chm: Grid, tops: Treetops, opts: CrownOptions): Grid<
     crown[4 * k + 3] = tops.row[k]!;
   }
 
-  // Level range over crown-eligible cells: level 0 = highest.
+  // One pass over the grid lists the crown-eligible cells; every other per-cell loop runs over the list.
+  // Level range over them: level 0 = highest.
   const minH = opts.minHeightM;
+  const cells = cellsAtLeast(data, minH);
+  const eligible = cells.length;
+  if (eligible === 0) return out;
   let hiH = -Infinity, loH = Infinity;
-  for (let i = 0; i < N; i++) {
-    const h = data[i]!;
-    if (h >= minH) { if (h > hiH) hiH = h; if (h < loH) loH = h; }
+  for (let k = 0; k < eligible; k++) {
+    const h = data[cells[k]!]!;
+    if (h > hiH) hiH = h;
+    if (h < loH) loH = h;
   }
-  if (!(hiH >= loH)) return out;
   let step = LEVEL_M;
   if ((hiH - loH) / step + 1 > MAX_LEVELS) step = (hiH - loH) / (MAX_LEVELS - 1);
   const levels = Math.floor((hiH - loH) / step) + 1;
 
-  // One linear pass makes `labels` the flood's whole per-cell state, so the
-  // inner loop reads one 4-byte word per neighbour (the flood visits cells in
-  // height order, scattered over the grid: memory traffic is its cost):
+  // `labels` is the flood's whole per-cell state, so the inner loop reads one
+  // 4-byte word per neighbour (the flood visits cells in height order,
+  // scattered over the grid: memory traffic is its cost):
   //   > 0  labelled (crown k + 1)
   //   = 0  never crown (below minHeightM or NaN)
   //   < 0  eligible, not reached yet: -(own level + 1)
@@ -106,16 +111,12 @@ export function growCrowns(chm: Grid, tops: Treetops, opts: CrownOptions): Grid<
   // once, at level max(own level, flood level), so each level's cells that
   // are queued before the flood gets there fit in a slot of that size.
   const count = new Int32Array(levels + 1);
-  let eligible = 0;
-  for (let i = 0; i < N; i++) {
-    const h = data[i]!;
-    if (h >= minH) {
-      let lev = Math.floor((hiH - h) / step);
-      if (lev > levels - 1) lev = levels - 1;
-      labels[i] = -lev - 1;
-      count[lev + 1]!++;
-      eligible++;
-    }
+  for (let k = 0; k < eligible; k++) {
+    const i = cells[k]!;
+    let lev = Math.floor((hiH - data[i]!) / step);
+    if (lev > levels - 1) lev = levels - 1;
+    labels[i] = -lev - 1;
+    count[lev + 1]!++;
   }
   // Hierarchical queue (Meyer 1994) stored as one array cut into per-level
   // FIFO slots (counting-sort offsets) instead of linked lists: pushes to
@@ -127,7 +128,9 @@ export function growCrowns(chm: Grid, tops: Treetops, opts: CrownOptions): Grid<
   const start = count; // level l's slot: start[l] .. start[l + 1]
   const fill = start.slice(0, levels); // next free index of each slot
   const queue = new Int32Array(eligible);
-  const now = new Int32Array(eligible);
+  // `now` holds the cells that join the current level while it floods, seldom many at once (a sized-for-all
+  // array would cost 4 bytes per eligible cell): it starts small and grows.
+  let now: Int32Array = new Int32Array(Math.min(eligible, 4096));
 
   for (let k = 0; k < n; k++) {
     const c = tops.col[k]!, r = tops.row[k]!;
@@ -170,11 +173,14 @@ export function growCrowns(chm: Grid, tops: Treetops, opts: CrownOptions): Grid<
         labels[j] = lab;
         // A higher neighbour than the flood level joins the current level (hierarchical queue rule).
         const lev = -v - 1;
-        if (lev <= cur) now[nt++] = j; else queue[fill[lev]!++] = j;
+        if (lev <= cur) {
+          if (nt === now.length) now = grown(now, eligible);
+          now[nt++] = j;
+        } else queue[fill[lev]!++] = j;
       }
     }
   }
   // Eligible cells no crown reached are not crown.
-  for (let i = 0; i < N; i++) if (labels[i]! < 0) labels[i] = 0;
+  for (let k = 0; k < eligible; k++) if (labels[cells[k]!]! < 0) labels[cells[k]!] = 0;
   return out;
 }

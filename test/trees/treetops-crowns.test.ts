@@ -95,6 +95,17 @@ describe('growCrowns', () => {
     expect(lab.data.filter((v) => v === 1).length).toBe(21); // cells within 2.5 of a centre: common practice count 1+4+8+8
   });
 
+  it('a flat crown larger than the queue\'s first block floods whole; NaN and low cells stay out', () => {
+    // 90 x 90 cells of one height join the flood level at once (more than the 4096 the level queue starts
+    // with); one marker on a connected region labels all of it (marker watershed by definition: common practice).
+    const g = grid(100, 100, (c, r) => (c === 50 && r === 50 ? NaN : c >= 5 && c < 95 && r >= 5 && r < 95 ? 10 : 1));
+    const tops = { count: 1, col: Int32Array.of(20), row: Int32Array.of(20), x: Float64Array.of(0), y: Float64Array.of(0), heightM: Float32Array.of(10) };
+    const lab = growCrowns(g, tops, { minHeightM: 2, floorFraction: 0, reachM: Infinity });
+    expect(lab.data.filter((v) => v === 1).length).toBe(90 * 90 - 1);
+    expect(lab.data[50 * 100 + 50]).toBe(0);
+    expect(lab.data[0]).toBe(0);
+  });
+
   it('feet and metres give the same crowns', () => {
     const ft: Grid = { ...twin, cellSize: 1 / 0.3048 };
     const a = growCrowns(twin, findTreetops(twin, { minHeightM: 2, window: 'combined' }), { minHeightM: 2, floorFraction: 0.3, reachM: 'auto', window: 'combined' });
