@@ -1,6 +1,7 @@
 import { CrowntallyError } from '../errors.js';
 import type { Grid } from '../raster/grid.js';
 import type { Treetops } from './treetops.js';
+import { nonZeroCells } from './cells.js';
 
 export interface NonTreeOptions {
   /** Surface the planarity tests read (the DSM: highest return per cell, metres). Falls back to `chm`. */
@@ -116,34 +117,34 @@ export function rejectNonTrees(labels: Grid<Int32Array>, tops: Treetops, opts: N
   const cells = new Float64Array(n), planar = new Float64Array(n), pts = new Float64Array(n), bld = new Float64Array(n);
   const sgl = new Float64Array(n);
   const S = new Float64Array(n * 9); // sx sy sz sxx sxy syy sxz syz szz
-  for (let r = 0; r < H; r++) {
-    for (let c = 0; c < W; c++) {
-      const i = r * W + c;
-      const L = lab[i]!;
-      if (L === 0) continue;
-      if (L < 0 || L > n) throw new CrowntallyError('INTERNAL', `label ${L} at cell (${c}, ${r}) is outside 1..${n}`);
-      const k = L - 1;
-      if (byClass || bySingles) pts[k]! += opts.pointCount!.data[i]!;
-      if (byClass) bld[k]! += opts.buildingCount!.data[i]!;
-      if (bySingles) sgl[k]! += opts.singleReturnCount!.data[i]!;
-      const h = z[i]!;
-      if (!Number.isFinite(h)) continue;
-      cells[k]!++;
-      if (r > 0 && c > 0 && r < H - 1 && c < W - 1) {
-        let sum = 0, ok = true;
-        for (let dr = -1; dr <= 1 && ok; dr++) for (let dc = -1; dc <= 1; dc++) {
-          const v = z[i + dr * W + dc]!;
-          if (!Number.isFinite(v)) { ok = false; break; }
-          sum += v;
-        }
-        if (ok && Math.abs(h - sum / 9) < tol) planar[k]!++;
+  // One pass over the grid lists the labelled cells (row-major); every later loop runs over the list.
+  const cellList = nonZeroCells(lab);
+  for (let m = 0; m < cellList.length; m++) {
+    const i = cellList[m]!;
+    const c = i % W, r = (i - c) / W;
+    const L = lab[i]!;
+    if (L < 0 || L > n) throw new CrowntallyError('INTERNAL', `label ${L} at cell (${c}, ${r}) is outside 1..${n}`);
+    const k = L - 1;
+    if (byClass || bySingles) pts[k]! += opts.pointCount!.data[i]!;
+    if (byClass) bld[k]! += opts.buildingCount!.data[i]!;
+    if (bySingles) sgl[k]! += opts.singleReturnCount!.data[i]!;
+    const h = z[i]!;
+    if (!Number.isFinite(h)) continue;
+    cells[k]!++;
+    if (r > 0 && c > 0 && r < H - 1 && c < W - 1) {
+      let sum = 0, ok = true;
+      for (let dr = -1; dr <= 1 && ok; dr++) for (let dc = -1; dc <= 1; dc++) {
+        const v = z[i + dr * W + dc]!;
+        if (!Number.isFinite(v)) { ok = false; break; }
+        sum += v;
       }
-      const x = (c - tops.col[k]!) * cellM, y = (tops.row[k]! - r) * cellM;
-      const o = k * 9;
-      S[o]! += x; S[o + 1]! += y; S[o + 2]! += h;
-      S[o + 3]! += x * x; S[o + 4]! += x * y; S[o + 5]! += y * y;
-      S[o + 6]! += x * h; S[o + 7]! += y * h; S[o + 8]! += h * h;
+      if (ok && Math.abs(h - sum / 9) < tol) planar[k]!++;
     }
+    const x = (c - tops.col[k]!) * cellM, y = (tops.row[k]! - r) * cellM;
+    const o = k * 9;
+    S[o]! += x; S[o + 1]! += y; S[o + 2]! += h;
+    S[o + 3]! += x * x; S[o + 4]! += x * y; S[o + 5]! += y * y;
+    S[o + 6]! += x * h; S[o + 7]! += y * h; S[o + 8]! += h * h;
   }
 
   const roof = new Uint8Array(n);
@@ -162,16 +163,18 @@ export function rejectNonTrees(labels: Grid<Int32Array>, tops: Treetops, opts: N
     // Roof fragments: a crown smaller than maxFragmentAreaM2 that meets a roof crown along an edge with
     // no step in the surface (|dz| < tolerance) is a piece of that roof cut off by the flooding.
     const fragment = new Uint8Array(n);
-    for (let r = 0; r < H; r++) for (let c = 0; c < W; c++) {
-      const i = r * W + c, a = lab[i]!;
-      if (a === 0) continue;
-      for (const j of [c + 1 < W ? i + 1 : -1, r + 1 < H ? i + W : -1]) {
-        if (j < 0) continue;
-        const b = lab[j]!;
-        if (b === 0 || b === a || !(Math.abs(z[i]! - z[j]!) < tol)) continue;
-        if (roof[a - 1] && !roof[b - 1] && cells[b - 1]! * cellM * cellM < maxFragment) fragment[b - 1] = 1;
-        if (roof[b - 1] && !roof[a - 1] && cells[a - 1]! * cellM * cellM < maxFragment) fragment[a - 1] = 1;
-      }
+    const meet = (i: number, j: number): void => {
+      const a = lab[i]!, b = lab[j]!;
+      if (b === 0 || b === a || !(Math.abs(z[i]! - z[j]!) < tol)) return;
+      if (roof[a - 1] && !roof[b - 1] && cells[b - 1]! * cellM * cellM < maxFragment) fragment[b - 1] = 1;
+      if (roof[b - 1] && !roof[a - 1] && cells[a - 1]! * cellM * cellM < maxFragment) fragment[a - 1] = 1;
+    };
+    // Each edge between two labelled cells once: from its west or north cell, both of which are listed.
+    for (let m = 0; m < cellList.length; m++) {
+      const i = cellList[m]!;
+      const c = i % W;
+      if (c + 1 < W) meet(i, i + 1);
+      if (i + W < N) meet(i, i + W);
     }
     for (let k = 0; k < n; k++) if (fragment[k]) roof[k] = 1;
   }
@@ -186,7 +189,7 @@ export function rejectNonTrees(labels: Grid<Int32Array>, tops: Treetops, opts: N
   };
   const newTops: Treetops = { count: kept, col: pick(tops.col), row: pick(tops.row), x: pick(tops.x), y: pick(tops.y), heightM: pick(tops.heightM) };
   const out = new Int32Array(N);
-  for (let i = 0; i < N; i++) { const L = lab[i]!; if (L > 0) out[i] = keptIndex[L - 1]! + 1; }
+  for (let m = 0; m < cellList.length; m++) { const i = cellList[m]!; out[i] = keptIndex[lab[i]! - 1]! + 1; }
   return {
     tops: newTops,
     labels: { width: W, height: H, cellSize: labels.cellSize, originX: labels.originX, originY: labels.originY, data: out },
