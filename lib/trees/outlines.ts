@@ -1,6 +1,7 @@
 import { CrowntallyError } from '../errors.js';
 import type { Grid } from '../raster/grid.js';
 import type { CrownOutlines } from './table.js';
+import { nonZeroCells } from './cells.js';
 
 // Directions of travel: 0 east, 1 north, 2 west, 3 south (counter-clockwise order).
 const DC = [1, 0, -1, 0];
@@ -32,16 +33,17 @@ export function traceOutlines(labels: Grid<Int32Array>, count: number): CrownOut
   interface Ring { pts: number[]; area: number; cell: number }
   const perTree: Ring[][] = Array.from({ length: count }, () => []);
 
-  for (let r = 0; r < H; r++) {
-    for (let c = 0; c < W; c++) {
-      const L = data[r * W + c]!;
-      if (L === 0) continue;
-      if (L < 0 || L > count) throw new CrowntallyError('INTERNAL', `label ${L} at cell (${c}, ${r}) is outside 1..${count}`);
-      for (let s = 0; s < 4; s++) {
-        if (visited[r * W + c]! & (1 << s)) continue;
-        if (lab(c + DC[s]!, r + DR[s]!) === L) continue;
-        perTree[L - 1]!.push(traceRing(c, r, (s + 1) & 3, L));
-      }
+  // One pass over the grid lists the labelled cells (row-major, the order rings are found in).
+  const cells = nonZeroCells(data);
+  for (let m = 0; m < cells.length; m++) {
+    const i = cells[m]!;
+    const c = i % W, r = (i - c) / W;
+    const L = data[i]!;
+    if (L < 0 || L > count) throw new CrowntallyError('INTERNAL', `label ${L} at cell (${c}, ${r}) is outside 1..${count}`);
+    for (let s = 0; s < 4; s++) {
+      if (visited[i]! & (1 << s)) continue;
+      if (lab(c + DC[s]!, r + DR[s]!) === L) continue;
+      perTree[L - 1]!.push(traceRing(c, r, (s + 1) & 3, L));
     }
   }
 
