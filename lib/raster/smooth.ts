@@ -30,47 +30,106 @@ export function gaussianSmooth(g: Grid, sigmaCells: number): Grid {
   for (let i = 0; i < kernel.length; i++) kernel[i] /= ks;
 
   const n = w * h;
+  const taps = kernel.length;
   // Pass 1 (rows) carries value-weighted sums and weight sums separately so the
-  // column pass can renormalise over valid cells only.
-  // Both passes run in row order (the column pass keeps one row of partial
-  // sums per output row), so the grid is read as it lies in memory; the taps
-  // are summed in the same order as a per-cell loop, so the result is the
-  // same to the bit. Mirrored indices are needed only within `radius` of an edge.
-  const vs = new Float64Array(n), ws = new Float64Array(n);
-  for (let r = 0; r < h; r++) {
-    const base = r * w;
-    for (let c = 0; c < w; c++) {
-      let sv = 0, sw = 0;
-      const inner = c >= radius && c + radius < w;
-      for (let i = -radius; i <= radius; i++) {
-        const v = data[base + (inner ? c + i : mirror(c + i, w))]!;
-        if (v !== v) continue; // NaN
-        const kw = kernel[i + radius]!;
-        sv += kw * v; sw += kw;
-      }
-      vs[base + c] = sv; ws[base + c] = sw;
-    }
-  }
-  const out = new Float32Array(n);
+  // column pass can renormalise over valid cells only. Pass 2 (columns) for
+  // row r needs only the pass-1 rows r - radius .. r + radius (clipped; the
+  // mirrored rows fall in that range too), so these live in a ring of `taps`
+  // rows (row q in slot q % taps), each made just before it is first needed.
+  //
+  // Every sum adds its taps in the same order as the plain per-cell
+  // definition, so the output is the same to the bit. A tap that adds
+  // kw * 0 = +0 changes no sum (sums start at +0, so they are never -0), which
+  // gives the shortcuts: a NaN tap adds +0 (value 0, mask 0) instead of being
+  // skipped, a window whose values are all 0 (open ground in a CHM) is not
+  // summed at all, and neither is a block of BLOCK pass-1 sums that are all 0.
+  // A row window without NaN has weight sum s1 (the kernel summed in tap
+  // order), and a column window over rows without NaN has weight sum s2.
+  let s1 = 0;
+  for (let i = 0; i < taps; i++) s1 += kernel[i]!;
+  let s2 = 0;
+  for (let i = 0; i < taps; i++) s2 += kernel[i]! * s1;
+  const nb = Math.ceil(w / BLOCK);
+  const pv = new Float64Array(w + 2 * radius), pm = new Float64Array(w + 2 * radius);
+  const vr = new Float64Array(taps * w), wr = new Float64Array(taps * w);
+  const vAny = new Uint8Array(taps * nb), wAny = new Uint8Array(taps * nb); // per ring row and block: any sum not 0
+  const rowNaN = new Uint8Array(h);
   const sv = new Float64Array(w), sw = new Float64Array(w);
+  const slots = new Int32Array(taps);
+  const out = new Float32Array(n);
+  let made = 0; // pass-1 rows [0, made) are done
   for (let r = 0; r < h; r++) {
-    sv.fill(0); sw.fill(0);
-    const inner = r >= radius && r + radius < h;
-    for (let i = -radius; i <= radius; i++) {
-      const jb = (inner ? r + i : mirror(r + i, h)) * w;
-      const kw = kernel[i + radius]!;
-      for (let c = 0; c < w; c++) { sv[c]! += kw * vs[jb + c]!; sw[c]! += kw * ws[jb + c]!; }
+    for (const last = Math.min(h - 1, r + radius); made <= last; made++) {
+      // Pass 1 for row `made`: padded copy, then one sum per column.
+      const base = made * w, o = (made % taps) * w;
+      let nan = 0;
+      for (let j = 0; j < pv.length; j++) {
+        const c = j - radius;
+        const v = data[base + (c >= 0 && c < w ? c : mirror(c, w))]!;
+        if (v === v) { pv[j] = v; pm[j] = 1; } else { pv[j] = 0; pm[j] = 0; nan = 1; }
+      }
+      rowNaN[made] = nan;
+      let nz = 0; // non-zero values in the window of column c
+      for (let i = 0; i < taps - 1; i++) if (pv[i] !== 0) nz++;
+      for (let c = 0; c < w; c++) {
+        if (pv[c + taps - 1] !== 0) nz++;
+        let s = 0;
+        if (nz > 0) for (let i = 0; i < taps; i++) s += kernel[i]! * pv[c + i]!;
+        vr[o + c] = s;
+        if (pv[c] !== 0) nz--;
+      }
+      if (nan) {
+        let valid = 0; // valid cells in the window of column c
+        for (let i = 0; i < taps - 1; i++) valid += pm[i]!;
+        for (let c = 0; c < w; c++) {
+          valid += pm[c + taps - 1]!;
+          let s = valid === taps ? s1 : 0;
+          if (valid > 0 && valid < taps) for (let i = 0; i < taps; i++) s += kernel[i]! * pm[c + i]!;
+          wr[o + c] = s;
+          valid -= pm[c]!;
+        }
+      } else wr.fill(s1, o, o + w);
+      const ob = (made % taps) * nb;
+      for (let b = 0; b < nb; b++) {
+        let vAnyB = 0, wAnyB = 0;
+        for (let c = b * BLOCK, e = Math.min(w, c + BLOCK); c < e; c++) { if (vr[o + c] !== 0) vAnyB = 1; if (wr[o + c] !== 0) wAnyB = 1; }
+        vAny[ob + b] = vAnyB; wAny[ob + b] = wAnyB;
+      }
+    }
+    // Pass 2 for row r, accumulated row by row over the window.
+    let nan = 0;
+    for (let i = 0; i < taps; i++) { const q = mirror(r + i - radius, h); slots[i] = q % taps; nan |= rowNaN[q]!; }
+    sv.fill(0);
+    for (let i = 0; i < taps; i++) {
+      const kw = kernel[i]!, o = slots[i]! * w, ob = slots[i]! * nb;
+      for (let b = 0; b < nb; b++) {
+        if (!vAny[ob + b]) continue;
+        for (let c = b * BLOCK, e = Math.min(w, c + BLOCK); c < e; c++) sv[c]! += kw * vr[o + c]!;
+      }
     }
     const base = r * w;
+    if (!nan) {
+      for (let c = 0; c < w; c++) out[base + c] = sv[c]! / s2;
+      continue;
+    }
+    sw.fill(0);
+    for (let i = 0; i < taps; i++) {
+      const kw = kernel[i]!, o = slots[i]! * w, ob = slots[i]! * nb;
+      for (let b = 0; b < nb; b++) {
+        if (!wAny[ob + b]) continue;
+        for (let c = b * BLOCK, e = Math.min(w, c + BLOCK); c < e; c++) sw[c]! += kw * wr[o + c]!;
+      }
+    }
     for (let c = 0; c < w; c++) {
-      const k = base + c;
-      const d = data[k]!;
-      if (d !== d) { out[k] = NaN; continue; }
-      out[k] = sw[c]! > 0 ? sv[c]! / sw[c]! : NaN;
+      const d = data[base + c]!;
+      out[base + c] = d !== d ? NaN : sw[c]! > 0 ? sv[c]! / sw[c]! : NaN;
     }
   }
   return { ...g, data: out };
 }
+
+/** Columns per block of pass-1 sums that the column pass skips when all are 0. */
+const BLOCK = 32;
 
 /** Index reflected at the edges, the edge cell repeated (period 2n). */
 function mirror(i: number, n: number): number {
