@@ -226,35 +226,45 @@ export class SurfaceAccumulator {
 
     const radius = lowOutlierRadius(cellSize * this.hUnit);
     let lowRemoved = lowOutlierTest(this.lowZ, width, height, radius, this.lowOutlierM);
+    // Row and column come from the loops, not from a division per cell; the
+    // coordinate sums are evaluated in the same order as before.
     const lowestX = new Float64Array(n), lowestY = new Float64Array(n);
     const lowest = new Float32Array(n);
-    for (let k = 0; k < n; k++) {
-      const z = this.lowZ[k];
-      if (z === Infinity) { lowest[k] = NaN; lowestX[k] = NaN; lowestY[k] = NaN; continue; }
-      const row = (k / width) | 0, col = k - row * width;
-      lowest[k] = z;
-      lowestX[k] = originX + col * cellSize + this.lowDx[k];
-      lowestY[k] = originY - row * cellSize - this.lowDy[k];
+    const { lowZ, lowDx, lowDy, gZ, gDx, gDy } = this;
+    for (let row = 0; row < height; row++) {
+      const base = row * width, y0 = originY - row * cellSize;
+      for (let col = 0; col < width; col++) {
+        const k = base + col;
+        const z = lowZ[k]!;
+        if (z === Infinity) { lowest[k] = NaN; lowestX[k] = NaN; lowestY[k] = NaN; continue; }
+        lowest[k] = z;
+        lowestX[k] = originX + col * cellSize + lowDx[k]!;
+        lowestY[k] = y0 - lowDy[k]!;
+      }
     }
 
     const ground = new Float32Array(n).fill(NaN);
     let gCount = 0;
     if (this.useGroundClass) {
-      lowRemoved += lowOutlierTest(this.gZ, width, height, radius, this.lowOutlierM);
-      for (let k = 0; k < n; k++) if (this.gZ[k] !== Infinity) gCount++;
+      lowRemoved += lowOutlierTest(gZ, width, height, radius, this.lowOutlierM);
+      for (let k = 0; k < n; k++) if (gZ[k] !== Infinity) gCount++;
     }
     const gp: GroundPoints = { count: gCount, x: new Float64Array(gCount), y: new Float64Array(gCount), z: new Float32Array(gCount) };
     if (this.useGroundClass) {
+      const { x: gx, y: gy, z: gz } = gp;
       let j = 0;
-      for (let k = 0; k < n; k++) {
-        const z = this.gZ[k];
-        if (z === Infinity) continue;
-        const row = (k / width) | 0, col = k - row * width;
-        ground[k] = z;
-        gp.x[j] = originX + col * cellSize + this.gDx[k];
-        gp.y[j] = originY - row * cellSize - this.gDy[k];
-        gp.z[j] = z;
-        j++;
+      for (let row = 0; row < height; row++) {
+        const base = row * width, y0 = originY - row * cellSize;
+        for (let col = 0; col < width; col++) {
+          const k = base + col;
+          const z = gZ[k]!;
+          if (z === Infinity) continue;
+          ground[k] = z;
+          gx[j] = originX + col * cellSize + gDx[k]!;
+          gy[j] = y0 - gDy[k]!;
+          gz[j] = z;
+          j++;
+        }
       }
     }
 
@@ -315,14 +325,18 @@ function isolationTest(max1: Float32Array, max2: Float32Array, w: number, h: num
       const top = max1[k];
       if (top === -Infinity) { out[k] = NaN; continue; }
       let support = max2[k];
-      for (let dr = -1; dr <= 1; dr++) {
-        const rr = r + dr;
-        if (rr < 0 || rr >= h) continue;
-        for (let dc = -1; dc <= 1; dc++) {
-          const cc = c + dc;
-          if ((dr === 0 && dc === 0) || cc < 0 || cc >= w) continue;
-          const v = max1[rr * w + cc];
-          if (v > support) support = v;
+      // Support only grows, so a cell that its own second return already
+      // supports needs no look at its neighbours (most cells with 2+ returns).
+      if (top - support > limitM) {
+        for (let dr = -1; dr <= 1; dr++) {
+          const rr = r + dr;
+          if (rr < 0 || rr >= h) continue;
+          for (let dc = -1; dc <= 1; dc++) {
+            const cc = c + dc;
+            if ((dr === 0 && dc === 0) || cc < 0 || cc >= w) continue;
+            const v = max1[rr * w + cc];
+            if (v > support) support = v;
+          }
         }
       }
       if (support !== -Infinity && top - support > limitM) {
@@ -352,43 +366,57 @@ function lowOutlierRadius(cellM: number): number {
  * "empty"), so the DTM bridges them from the surrounding ground. Works in
  * place; returns the number of cells cleared.
  *
- * The smallest value excluding the centre comes from the two smallest values
- * of the window (separable: rows, then columns): when the centre holds the
- * smallest, the answer is the second smallest. Equal values count twice, so
- * ties are right too.
+ * Since limitM > 0, only a cell strictly lower than all others in its window
+ * can fail, so it must be the minimum of its window. The minimum of the
+ * window without the centre is that of the row-span minima of the other rows
+ * and of the centre's own row span without the centre; a cell above its own
+ * row-span minimum, or above the other rows' minima, is no outlier.
  */
 function lowOutlierTest(z: Float32Array, w: number, h: number, r: number, limitM: number): number {
-  const n = w * h;
-  const a1 = new Float32Array(n), a2 = new Float32Array(n);
+  // Minimum of each row span [c - r, c + r] by the van Herk / Gil-Werman scheme
+  // (van Herk 1992, Pattern Recognit. Lett. 13(7); Gil & Werman 1993, IEEE
+  // PAMI 15(5)): over blocks of k = 2r + 1 padded cells, running minima from
+  // each block's start (pre) and to its end (suf); a span covers the end of
+  // one block and the start of the next, so its minimum is
+  // min(suf[c], pre[c + k - 1]): three comparisons a cell for any r.
+  const k = 2 * r + 1;
+  const len = Math.ceil((w + 2 * r) / k) * k;
+  const pad = new Float32Array(len).fill(Infinity), pre = new Float32Array(len), suf = new Float32Array(len);
+  const rowMin = new Float32Array(w * h);
   for (let row = 0; row < h; row++) {
     const base = row * w;
+    pad.set(z.subarray(base, base + w), r);
+    for (let b = 0; b < len; b += k) {
+      let m = Infinity;
+      for (let i = b; i < b + k; i++) { const v = pad[i]!; if (v < m) m = v; pre[i] = m; }
+      m = Infinity;
+      for (let i = b + k - 1; i >= b; i--) { const v = pad[i]!; if (v < m) m = v; suf[i] = m; }
+    }
     for (let c = 0; c < w; c++) {
-      let m1 = Infinity, m2 = Infinity;
-      const c0 = Math.max(0, c - r), c1 = Math.min(w - 1, c + r);
-      for (let cc = c0; cc <= c1; cc++) {
-        const v = z[base + cc];
-        if (v < m1) { m2 = m1; m1 = v; } else if (v < m2) m2 = v;
-      }
-      a1[base + c] = m1; a2[base + c] = m2;
+      const a = suf[c]!, e = pre[c + k - 1]!;
+      rowMin[base + c] = a < e ? a : e;
     }
   }
   const flagged: number[] = [];
   for (let row = 0; row < h; row++) {
     const r0 = Math.max(0, row - r), r1 = Math.min(h - 1, row + r);
+    const base = row * w;
     for (let c = 0; c < w; c++) {
-      const k = row * w + c;
-      const self = z[k];
-      if (self === Infinity) continue;
-      let m1 = Infinity, m2 = Infinity;
-      for (let rr = r0; rr <= r1; rr++) {
-        const j = rr * w + c;
-        const v1 = a1[j], v2 = a2[j];
-        if (v1 < m1) { m2 = Math.min(m1, v2); m1 = v1; } else if (v1 < m2) m2 = v1;
+      const j = base + c;
+      const self = z[j]!;
+      if (self === Infinity || self > rowMin[j]!) continue;
+      // The lowest point of the other cells: the row minima of the other rows,
+      // then the cell's own row span without the centre.
+      let others = Infinity;
+      for (let rr = r0; rr <= r1; rr++) { const v = rowMin[rr * w + c]!; if (rr !== row && v < others) others = v; }
+      if (self > others) continue;
+      for (let cc = Math.max(0, c - r), c1 = Math.min(w - 1, c + r); cc <= c1; cc++) {
+        const v = z[base + cc]!;
+        if (cc !== c && v < others) others = v;
       }
-      const others = m1 === self ? m2 : m1;
-      if (others !== Infinity && others - self > limitM) flagged.push(k);
+      if (others !== Infinity && others - self > limitM) flagged.push(j);
     }
   }
-  for (const k of flagged) z[k] = Infinity;
+  for (const j of flagged) z[j] = Infinity;
   return flagged.length;
 }
