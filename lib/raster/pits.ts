@@ -35,25 +35,26 @@ export function fillPits(chm: Grid, opts: PitOptions = {}): { grid: Grid; filled
   const { width: w, height: h, data } = chm;
   const out = new Float32Array(data);
   const nb = new Float64Array(8);
+  const offs = Int32Array.of(-w - 1, -w, -w + 1, -1, 1, w - 1, w, w + 1);
+  // A cell is out as soon as more than 8 - need neighbours are not high (or
+  // one is NaN): most cells are decided by their first two neighbours.
+  const maxLow = 8 - need;
   let filled = 0;
   for (let r = 1; r < h - 1; r++) {
     for (let c = 1; c < w - 1; c++) {
       const k = r * w + c;
-      const v = data[k];
-      if (Number.isNaN(v)) continue;
-      let m = 0, high = 0, bad = false;
-      for (let dr = -1; dr <= 1 && !bad; dr++) {
-        for (let dc = -1; dc <= 1; dc++) {
-          if (dr === 0 && dc === 0) continue;
-          const u = data[k + dr * w + dc];
-          if (Number.isNaN(u)) { bad = true; break; }
-          nb[m++] = u;
-          if (u >= canopy && u - v > depth) high++;
-        }
+      const v = data[k]!;
+      if (v !== v) continue;
+      let low = 0, i = 0;
+      for (; i < 8; i++) {
+        const u = data[k + offs[i]!]!;
+        if (u !== u) break;
+        if (!(u >= canopy && u - v > depth) && ++low > maxLow) break;
       }
-      if (bad || high < need) continue;
+      if (i < 8) continue;
+      for (let j = 0; j < 8; j++) nb[j] = data[k + offs[j]!]!;
       nb.sort();
-      const med = 0.5 * (nb[3] + nb[4]);
+      const med = 0.5 * (nb[3]! + nb[4]!);
       if (med - v > depth) { out[k] = med; filled++; }
     }
   }
