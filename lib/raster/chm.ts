@@ -44,10 +44,10 @@ export function canopyHeightModel(dsm: Grid, dtm: Grid, opts: ChmOptions = {}): 
   const cellM = dsm.cellSize * unit;
   const maxHoleCells = Math.floor(maxHoleM2 / (cellM * cellM) + 1e-9);
   const out = new Float32Array(n);
+  const sd = dsm.data, gd = dtm.data;
   for (let k = 0; k < n; k++) {
-    const s = dsm.data[k], g = dtm.data[k];
-    if (Number.isNaN(s)) out[k] = NaN;
-    else out[k] = Number.isNaN(g) ? 0 : Math.max(0, s - g);
+    const s = sd[k]!, g = gd[k]!;
+    out[k] = s !== s ? NaN : g !== g ? 0 : Math.max(0, s - g);
   }
   const holesFilled = fillEnclosedHoles(out, w, h, canopy, maxHoleCells);
   let chm: Grid = { ...dsm, data: out };
@@ -65,44 +65,56 @@ export function canopyHeight(dsm: Grid, dtm: Grid, opts: ChmOptions = {}): Grid 
   return canopyHeightModel(dsm, dtm, opts).chm;
 }
 
-/** Fills (in place) NaN patches enclosed by canopy; every other NaN becomes 0. Linear in cells. */
+/**
+ * Fills (in place) NaN patches enclosed by canopy; every other NaN becomes 0. Linear in cells.
+ *
+ * A patch is flooded breadth-first from its first cell in scan order, its
+ * border summed in flood order. The flood stops as soon as the patch cannot be
+ * filled (it reaches the grid edge, a border cell below canopy, or more than
+ * maxCells cells); its cells are then marked dead and stay NaN until the end,
+ * so a later flood from another cell of the same patch stops as soon as it
+ * meets one. Only fillable patches are flooded in full, in the same order as a
+ * complete flood, so their fill values are the same to the bit.
+ */
 function fillEnclosedHoles(d: Float32Array, w: number, h: number, canopy: number, maxCells: number): number {
   const n = w * h;
-  const seen = new Uint8Array(n);
-  const patch = new Int32Array(n);
+  if (maxCells < 1) { for (let k = 0; k < n; k++) if (d[k] !== d[k]) d[k] = 0; return 0; }
+  const seen = new Uint8Array(n); // 1: in a patch being flooded, 2: in a patch that is not filled
+  const patch = new Int32Array(Math.min(n, maxCells));
   let filled = 0;
   for (let start = 0; start < n; start++) {
-    if (seen[start] || !Number.isNaN(d[start])) continue;
-    // Flood the 8-connected empty patch; collect the border's sum and whether it is all canopy.
+    if (seen[start] || d[start] === d[start]) continue;
     let len = 0, head = 0;
     patch[len++] = start;
     seen[start] = 1;
-    let enclosed = true, sum = 0, cnt = 0;
-    while (head < len) {
-      const k = patch[head++];
+    let ok = true, sum = 0, cnt = 0;
+    flood: while (head < len) {
+      const k = patch[head++]!;
       const r = (k / w) | 0, c = k - r * w;
-      if (r === 0 || c === 0 || r === h - 1 || c === w - 1) enclosed = false;
-      for (let dr = -1; dr <= 1; dr++) {
-        const rr = r + dr;
-        if (rr < 0 || rr >= h) continue;
+      if (r === 0 || c === 0 || r === h - 1 || c === w - 1) { ok = false; break; }
+      // Not on the edge, so all 8 neighbours exist.
+      for (let dr = -w; dr <= w; dr += w) {
         for (let dc = -1; dc <= 1; dc++) {
-          const cc = c + dc;
-          if (cc < 0 || cc >= w || (dr === 0 && dc === 0)) continue;
-          const j = rr * w + cc;
-          const v = d[j];
-          if (Number.isNaN(v)) {
-            if (!seen[j]) { seen[j] = 1; patch[len++] = j; }
+          if (dr === 0 && dc === 0) continue;
+          const j = k + dr + dc;
+          const v = d[j]!;
+          if (v !== v) {
+            const sj = seen[j]!;
+            if (sj === 2 || (sj === 0 && len === maxCells)) { ok = false; break flood; }
+            if (sj === 0) { seen[j] = 1; patch[len++] = j; }
           } else {
             // Border cells may be counted more than once; the mean stays a fair border average.
-            if (v < canopy) enclosed = false;
+            if (v < canopy) { ok = false; break flood; }
             sum += v; cnt++;
           }
         }
       }
     }
-    const fill = enclosed && len <= maxCells && cnt > 0 ? sum / cnt : 0;
+    if (!ok) { for (let i = 0; i < len; i++) seen[patch[i]!] = 2; continue; }
+    const fill = cnt > 0 ? sum / cnt : 0;
     if (fill > 0) filled += len;
-    for (let i = 0; i < len; i++) d[patch[i]] = fill;
+    for (let i = 0; i < len; i++) d[patch[i]!] = fill;
   }
+  for (let k = 0; k < n; k++) if (d[k] !== d[k]) d[k] = 0;
   return filled;
 }
