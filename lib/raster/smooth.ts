@@ -69,16 +69,22 @@ export function gaussianSmooth(g: Grid, sigmaCells: number): Grid {
         if (v === v) { pv[j] = v; pm[j] = 1; } else { pv[j] = 0; pm[j] = 0; nan = 1; }
       }
       rowNaN[made] = nan;
+      const ob = (made % taps) * nb;
+      vAny.fill(0, ob, ob + nb);
       let nz = 0; // non-zero values in the window of column c
       for (let i = 0; i < taps - 1; i++) if (pv[i] !== 0) nz++;
       for (let c = 0; c < w; c++) {
         if (pv[c + taps - 1] !== 0) nz++;
         let s = 0;
-        if (nz > 0) for (let i = 0; i < taps; i++) s += kernel[i]! * pv[c + i]!;
+        if (nz > 0) {
+          for (let i = 0; i < taps; i++) s += kernel[i]! * pv[c + i]!;
+          if (s !== 0) vAny[ob + ((c / BLOCK) | 0)] = 1;
+        }
         vr[o + c] = s;
         if (pv[c] !== 0) nz--;
       }
       if (nan) {
+        wAny.fill(0, ob, ob + nb);
         let valid = 0; // valid cells in the window of column c
         for (let i = 0; i < taps - 1; i++) valid += pm[i]!;
         for (let c = 0; c < w; c++) {
@@ -86,14 +92,12 @@ export function gaussianSmooth(g: Grid, sigmaCells: number): Grid {
           let s = valid === taps ? s1 : 0;
           if (valid > 0 && valid < taps) for (let i = 0; i < taps; i++) s += kernel[i]! * pm[c + i]!;
           wr[o + c] = s;
+          if (s !== 0) wAny[ob + ((c / BLOCK) | 0)] = 1;
           valid -= pm[c]!;
         }
-      } else wr.fill(s1, o, o + w);
-      const ob = (made % taps) * nb;
-      for (let b = 0; b < nb; b++) {
-        let vAnyB = 0, wAnyB = 0;
-        for (let c = b * BLOCK, e = Math.min(w, c + BLOCK); c < e; c++) { if (vr[o + c] !== 0) vAnyB = 1; if (wr[o + c] !== 0) wAnyB = 1; }
-        vAny[ob + b] = vAnyB; wAny[ob + b] = wAnyB;
+      } else {
+        wr.fill(s1, o, o + w);
+        wAny.fill(1, ob, ob + nb);
       }
     }
     // Pass 2 for row r, accumulated row by row over the window.
@@ -129,7 +133,7 @@ export function gaussianSmooth(g: Grid, sigmaCells: number): Grid {
 }
 
 /** Columns per block of pass-1 sums that the column pass skips when all are 0. */
-const BLOCK = 32;
+const BLOCK = 16;
 
 /** Index reflected at the edges, the edge cell repeated (period 2n). */
 function mirror(i: number, n: number): number {
