@@ -71,50 +71,63 @@ export function canopyHeight(dsm: Grid, dtm: Grid, opts: ChmOptions = {}): Grid 
  * A patch is flooded breadth-first from its first cell in scan order, its
  * border summed in flood order. The flood stops as soon as the patch cannot be
  * filled (it reaches the grid edge, a border cell below canopy, or more than
- * maxCells cells); its cells are then marked dead and stay NaN until the end,
- * so a later flood from another cell of the same patch stops as soon as it
- * meets one. Only fillable patches are flooded in full, in the same order as a
- * complete flood, so their fill values are the same to the bit.
+ * maxCells cells); the cells it reached are then marked dead and set to 0.
+ * Any other cell of that patch joins a dead cell, so it is dead too: a cell
+ * in scan order next to an earlier dead cell is settled at once, and a flood
+ * that meets a dead cell stops. Only fillable patches are flooded in full, in
+ * the same order as a complete flood, so their fill values are the same to
+ * the bit.
  */
 function fillEnclosedHoles(d: Float32Array, w: number, h: number, canopy: number, maxCells: number): number {
   const n = w * h;
   if (maxCells < 1) { for (let k = 0; k < n; k++) if (d[k] !== d[k]) d[k] = 0; return 0; }
-  const seen = new Uint8Array(n); // 1: in a patch being flooded, 2: in a patch that is not filled
+  const DEAD = 2;
+  const seen = new Uint8Array(n); // 1: in a patch being flooded, DEAD: in a patch that is not filled (now 0)
   const patch = new Int32Array(Math.min(n, maxCells));
   let filled = 0;
-  for (let start = 0; start < n; start++) {
-    if (seen[start] || d[start] === d[start]) continue;
-    let len = 0, head = 0;
-    patch[len++] = start;
-    seen[start] = 1;
-    let ok = true, sum = 0, cnt = 0;
-    flood: while (head < len) {
-      const k = patch[head++]!;
-      const r = (k / w) | 0, c = k - r * w;
-      if (r === 0 || c === 0 || r === h - 1 || c === w - 1) { ok = false; break; }
-      // Not on the edge, so all 8 neighbours exist.
-      for (let dr = -w; dr <= w; dr += w) {
-        for (let dc = -1; dc <= 1; dc++) {
-          if (dr === 0 && dc === 0) continue;
-          const j = k + dr + dc;
-          const v = d[j]!;
-          if (v !== v) {
+  for (let r = 0; r < h; r++) {
+    for (let c = 0; c < w; c++) {
+      const start = r * w + c;
+      if (seen[start] || d[start] === d[start]) continue;
+      if (r === 0 || c === 0 || r === h - 1 || c === w - 1 || seen[start - 1] === DEAD ||
+          seen[start - w - 1] === DEAD || seen[start - w] === DEAD || seen[start - w + 1] === DEAD) {
+        seen[start] = DEAD; d[start] = 0;
+        continue;
+      }
+      let len = 0, head = 0;
+      patch[len++] = start;
+      seen[start] = 1;
+      let ok = true, sum = 0, cnt = 0;
+      flood: while (head < len) {
+        const k = patch[head++]!;
+        const kr = (k / w) | 0, kc = k - kr * w;
+        if (kr === 0 || kc === 0 || kr === h - 1 || kc === w - 1) { ok = false; break; }
+        // Not on the edge, so all 8 neighbours exist.
+        for (let dr = -w; dr <= w; dr += w) {
+          for (let dc = -1; dc <= 1; dc++) {
+            if (dr === 0 && dc === 0) continue;
+            const j = k + dr + dc;
             const sj = seen[j]!;
-            if (sj === 2 || (sj === 0 && len === maxCells)) { ok = false; break flood; }
-            if (sj === 0) { seen[j] = 1; patch[len++] = j; }
-          } else {
-            // Border cells may be counted more than once; the mean stays a fair border average.
-            if (v < canopy) { ok = false; break flood; }
-            sum += v; cnt++;
+            if (sj === DEAD) { ok = false; break flood; }
+            const v = d[j]!;
+            if (v !== v) {
+              if (sj === 0) {
+                if (len === maxCells) { ok = false; break flood; }
+                seen[j] = 1; patch[len++] = j;
+              }
+            } else {
+              // Border cells may be counted more than once; the mean stays a fair border average.
+              if (v < canopy) { ok = false; break flood; }
+              sum += v; cnt++;
+            }
           }
         }
       }
+      if (!ok) { for (let i = 0; i < len; i++) { seen[patch[i]!] = DEAD; d[patch[i]!] = 0; } continue; }
+      const fill = cnt > 0 ? sum / cnt : 0;
+      if (fill > 0) filled += len;
+      for (let i = 0; i < len; i++) d[patch[i]!] = fill;
     }
-    if (!ok) { for (let i = 0; i < len; i++) seen[patch[i]!] = 2; continue; }
-    const fill = cnt > 0 ? sum / cnt : 0;
-    if (fill > 0) filled += len;
-    for (let i = 0; i < len; i++) d[patch[i]!] = fill;
   }
-  for (let k = 0; k < n; k++) if (d[k] !== d[k]) d[k] = 0;
   return filled;
 }
