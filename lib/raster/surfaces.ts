@@ -366,55 +366,30 @@ function lowOutlierRadius(cellM: number): number {
  * "empty"), so the DTM bridges them from the surrounding ground. Works in
  * place; returns the number of cells cleared.
  *
- * Since limitM > 0, only a cell strictly lower than all others in its window
- * can fail, so it must be the minimum of its window. The minimum of the
- * window without the centre is that of the row-span minima of the other rows
- * and of the centre's own row span without the centre; a cell above its own
- * row-span minimum, or above the other rows' minima, is no outlier.
+ * The cell fails when every other point v in the window has v - self > limitM
+ * (rounding of v - self is monotone in v, so this is the same as testing the
+ * lowest of them). The scan of the window therefore stops at the first v with
+ * v - self <= limitM, which over real terrain is one of the first few cells.
  */
 function lowOutlierTest(z: Float32Array, w: number, h: number, r: number, limitM: number): number {
-  // Minimum of each row span [c - r, c + r] by the van Herk / Gil-Werman scheme
-  // (van Herk 1992, Pattern Recognit. Lett. 13(7); Gil & Werman 1993, IEEE
-  // PAMI 15(5)): over blocks of k = 2r + 1 padded cells, running minima from
-  // each block's start (pre) and to its end (suf); a span covers the end of
-  // one block and the start of the next, so its minimum is
-  // min(suf[c], pre[c + k - 1]): three comparisons a cell for any r.
-  const k = 2 * r + 1;
-  const len = Math.ceil((w + 2 * r) / k) * k;
-  const pad = new Float32Array(len).fill(Infinity), pre = new Float32Array(len), suf = new Float32Array(len);
-  const rowMin = new Float32Array(w * h);
-  for (let row = 0; row < h; row++) {
-    const base = row * w;
-    pad.set(z.subarray(base, base + w), r);
-    for (let b = 0; b < len; b += k) {
-      let m = Infinity;
-      for (let i = b; i < b + k; i++) { const v = pad[i]!; if (v < m) m = v; pre[i] = m; }
-      m = Infinity;
-      for (let i = b + k - 1; i >= b; i--) { const v = pad[i]!; if (v < m) m = v; suf[i] = m; }
-    }
-    for (let c = 0; c < w; c++) {
-      const a = suf[c]!, e = pre[c + k - 1]!;
-      rowMin[base + c] = a < e ? a : e;
-    }
-  }
   const flagged: number[] = [];
   for (let row = 0; row < h; row++) {
     const r0 = Math.max(0, row - r), r1 = Math.min(h - 1, row + r);
-    const base = row * w;
     for (let c = 0; c < w; c++) {
-      const j = base + c;
-      const self = z[j]!;
-      if (self === Infinity || self > rowMin[j]!) continue;
-      // The lowest point of the other cells: the row minima of the other rows,
-      // then the cell's own row span without the centre.
-      let others = Infinity;
-      for (let rr = r0; rr <= r1; rr++) { const v = rowMin[rr * w + c]!; if (rr !== row && v < others) others = v; }
-      if (self > others) continue;
-      for (let cc = Math.max(0, c - r), c1 = Math.min(w - 1, c + r); cc <= c1; cc++) {
-        const v = z[base + cc]!;
-        if (cc !== c && v < others) others = v;
+      const k = row * w + c;
+      const self = z[k]!;
+      if (self === Infinity) continue;
+      const c0 = Math.max(0, c - r), c1 = Math.min(w - 1, c + r);
+      let near = false, any = false;
+      scan: for (let rr = r0; rr <= r1; rr++) {
+        for (let j = rr * w + c0, e = rr * w + c1; j <= e; j++) {
+          const v = z[j]!;
+          if (v === Infinity || j === k) continue;
+          any = true;
+          if (v - self <= limitM) { near = true; break scan; }
+        }
       }
-      if (others !== Infinity && others - self > limitM) flagged.push(j);
+      if (any && !near) flagged.push(k);
     }
   }
   for (const j of flagged) z[j] = Infinity;
