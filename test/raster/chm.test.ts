@@ -46,6 +46,20 @@ describe('canopyHeightModel', () => {
     expect(res.holesFilled).toBe(0);
   });
 
+  it('leaves a too-large U-shaped patch empty even where it re-enters the scan, with a canopy threshold of 0', () => {
+    // our own rule (lib/raster/chm.ts): an 8-connected empty patch larger than maxHoleM2 is not
+    // filled, however its cells are reached; canopyMinM 0 makes every border cell count as canopy.
+    // The U opens north: a wide west arm (16 cells), a base, a short narrow east arm; the
+    // east arm with the base alone would be small enough.
+    const dtm = grid(() => 0);
+    const inU = (c: number, r: number) => (r >= 2 && r <= 9 && c >= 2 && c <= 3) || (r === 9 && c >= 4 && c <= 8) || (c === 8 && r >= 6 && r <= 8);
+    const dsm = grid((c, r) => (inU(c, r) ? NaN : c === 6 && r === 4 ? NaN : 20));
+    const res = canopyHeightModel(dsm, dtm, { fillPits: false, canopyMinM: 0, maxHoleM2: 4 }); // 24 cells = 6 m2
+    for (let r = 0; r < H; r++) for (let c = 0; c < W; c++) if (inU(c, r)) expect(res.chm.data[r * W + c]).toBe(0);
+    expect(res.chm.data[4 * W + 6]).toBeCloseTo(20, 5); // the one-cell dropout inside the U is filled
+    expect(res.holesFilled).toBe(1);
+  });
+
   it('refuses grids of different geometry', () => {
     const a = grid(() => 1);
     expect(() => canopyHeightModel(a, { ...a, originX: 1 })).toThrow(expect.objectContaining({ code: 'INTERNAL' }));

@@ -53,6 +53,35 @@ describe('gaussianSmooth', () => {
     });
   }
 
+  it('matches scipy on a CHM-like grid of open ground, crowns and empty cells', () => {
+    // Outside reference: SciPy scipy.ndimage.gaussian_filter (mode 'reflect', truncate 4.0);
+    // with empty cells, normalised convolution (Knutsson & Westin 1993) is
+    // gaussian_filter(values, 0 where empty) / gaussian_filter(valid mask). Exact zeros
+    // (open ground) and a grid wider than a few column blocks exercise the all-zero shortcuts.
+    const w = 83, h = 41, sigma = 1.2, r = rng(5);
+    const data = new Float32Array(w * h);
+    for (let k = 0; k < data.length; k++) data[k] = r() < 0.15 ? 25 * r() : 0;
+    for (let k = 0; k < w * 12; k++) data[k] = 0; // a band of open ground
+    const ours = gaussianSmooth({ width: w, height: h, cellSize: 1, originX: 0, originY: 0, data }, sigma).data;
+    const ref = scipyGaussian(data, w, h, sigma);
+    let worst = 0;
+    for (let k = 0; k < data.length; k++) worst = Math.max(worst, Math.abs(ours[k] - ref[k]));
+    expect(worst).toBeLessThan(1e-4);
+    for (let k = 0; k < w * 6; k++) expect(ours[k]).toBe(0); // more than 4 sigma from any crown
+
+    const holes = data.slice(), mask = new Float32Array(w * h), vals = new Float32Array(w * h);
+    for (let k = 0; k < holes.length; k++) if (r() < 0.2) holes[k] = NaN;
+    for (let k = 0; k < holes.length; k++) { mask[k] = Number.isNaN(holes[k]) ? 0 : 1; vals[k] = Number.isNaN(holes[k]) ? 0 : holes[k]; }
+    const oursN = gaussianSmooth({ width: w, height: h, cellSize: 1, originX: 0, originY: 0, data: holes }, sigma).data;
+    const num = scipyGaussian(vals, w, h, sigma), den = scipyGaussian(mask, w, h, sigma);
+    worst = 0;
+    for (let k = 0; k < holes.length; k++) {
+      if (Number.isNaN(holes[k])) { expect(Number.isNaN(oursN[k])).toBe(true); continue; }
+      worst = Math.max(worst, Math.abs(oursN[k] - num[k] / den[k]));
+    }
+    expect(worst).toBeLessThan(1e-4);
+  });
+
   it('ignores empty cells instead of pulling neighbours down', () => {
     // common practice (normalised convolution): a constant surface with holes stays constant.
     const w = 15, h = 15;

@@ -88,4 +88,22 @@ describe('fillNearest', () => {
     expect(Array.from(data)).toEqual([5, 5, 5, 5, 9, 9, 9]);
     expect(fillNearest({ ...g, data: new Float32Array(3).fill(NaN), width: 3 })).toBe(-1);
   });
+
+  it('fills a few holes in a mostly filled grid from the nearest filled cells', () => {
+    // common practice (nearest-neighbour fill): each column holds its own index, and a two-column
+    // gap (columns 5, 6) has one nearest column on each side; a grid with nothing to fill is left alone.
+    const w = 20, h = 20;
+    const data = new Float32Array(w * h);
+    for (let k = 0; k < data.length; k++) data[k] = k % w;
+    for (let r = 0; r < h; r++) data[r * w + 5] = data[r * w + 6] = NaN;
+    const g = { width: w, height: h, cellSize: 1, originX: 0, originY: 0, data };
+    expect(fillNearest(g)).toBe(2 * h);
+    for (let r = 0; r < h; r++) {
+      expect(data[r * w + 5]).toBe(4);
+      expect(data[r * w + 6]).toBe(7);
+    }
+    const full = data.slice();
+    expect(fillNearest({ ...g, data: full })).toBe(0);
+    expect(full).toEqual(data);
+  });
 });
