@@ -16,14 +16,20 @@ export async function makeBigLaz(seed: Uint8Array, repeat: number, lazPerf?: Laz
   const table = await readLazChunkTable(src, header, vlrs);
   const info = parseLazVlr(findLazVlr(vlrs)!);
   if (!table || table.length === 0) throw new CrowntallyError('BAD_OPTIONS', 'the seed LAZ needs a chunk table with at least one chunk');
-  // Return counts per seed chunk, so the header's points-by-return stay exact.
-  const byReturn: number[][] = [];
+  // Return counts per seed chunk, so the header's points-by-return stay exact
+  // (the reader hands out pieces of chunks: points are assigned by position).
+  const byReturn: number[][] = table.map(() => new Array<number>(15).fill(0));
   const pc = await openPointCloud(src, lazPerf ? { lazPerf } : {});
+  let chunk = 0, left = table[0]!.pointCount;
   for await (const c of pc.chunks()) {
-    const r = new Array<number>(15).fill(0);
-    for (let i = 0; i < c.count; i++) { const k = c.returnNumber[i]!; if (k >= 1 && k <= 15) r[k - 1]!++; }
-    byReturn.push(r);
+    for (let i = 0; i < c.count; i++) {
+      while (left === 0 && chunk < table.length - 1) left = table[++chunk]!.pointCount;
+      left--;
+      const k = c.returnNumber[i]!;
+      if (k >= 1 && k <= 15) byReturn[chunk]![k - 1]!++;
+    }
   }
+  await pc.close();
   const fullIdx = table.map((e, i) => (e.pointCount === info.chunkSize ? i : -1)).filter((i) => i >= 0);
   const tailIdx = table.map((e, i) => (e.pointCount !== info.chunkSize ? i : -1)).filter((i) => i >= 0);
   const order: number[] = [];

@@ -243,6 +243,7 @@ export async function* lazChunks(source: ByteSource, header: LasHeader, vlrs: Vl
     try {
       for (const c of decodeLazChunkPieces(lp, bytes, header.pointFormat, header.pointRecordLength, e.pointCount, header, CHUNK_POINTS, label)) {
         yield emit(c);
+        throwIfAborted(opts.signal);
       }
     } catch (err) {
       if (!(err instanceof CrowntallyError) || err.code === 'CORRUPT_LAZ') handle.discard();
