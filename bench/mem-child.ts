@@ -1,6 +1,7 @@
 /**
  * One measured job in a fresh process, so peak memory belongs to this job
- * alone: node --expose-gc dist/bench/mem-child.js FILE CACHE_MIB WORKERS
+ * alone: node --expose-gc dist/bench/mem-child.js FILE CACHE_MIB WORKERS [CELL_M]
+ * (CELL_M fixes the cell edge in metres; without it the density rule chooses).
  * Prints one JSON line: wall seconds, points, trees, peak RSS (the kernel's
  * VmHWM from /proc/self/status, and the sampled maximum) and the sampled
  * maximum of process.memoryUsage().arrayBuffers, all in MiB. The file is read
@@ -28,8 +29,8 @@ function vmHwmMiB(): number | null {
 }
 
 async function main(): Promise<void> {
-  const [file, cache, workers] = process.argv.slice(2);
-  if (!file) { console.error('usage: mem-child FILE CACHE_MIB WORKERS'); process.exit(2); }
+  const [file, cache, workers, cell] = process.argv.slice(2);
+  if (!file) { console.error('usage: mem-child FILE CACHE_MIB WORKERS [CELL_M]'); process.exit(2); }
   const gc = (globalThis as { gc?: () => void }).gc;
   gc?.();
   const baselineRssMiB = process.memoryUsage().rss / MIB;
@@ -43,7 +44,7 @@ async function main(): Promise<void> {
   const t0 = performance.now();
   const src = await fileSource(file);
   const r = await withPool(Number(workers ?? 1), (extra) => tally([src], {
-    ...extra, options: { pointCacheMiB: Number(cache ?? 0) },
+    ...extra, options: { pointCacheMiB: Number(cache ?? 0), ...(cell ? { cellSizeM: Number(cell) } : {}) },
     // Progress events arrive per chunk: a sample there catches peaks between timer ticks.
     onProgress: sample,
   }));

@@ -279,8 +279,9 @@ async function referenceJobRow(cfg: BenchConfig, rows: BenchRow[], inputs: Recor
   });
 }
 
-async function child(file: string, cacheMiB: number): Promise<ChildResult> {
-  const { stdout } = await run(process.execPath, ['--expose-gc', path.join(HERE, 'mem-child.js'), file, String(cacheMiB), '1'], { maxBuffer: 1 << 20 });
+async function child(file: string, cacheMiB: number, cellSizeM?: number): Promise<ChildResult> {
+  const args = ['--expose-gc', path.join(HERE, 'mem-child.js'), file, String(cacheMiB), '1', ...(cellSizeM ? [String(cellSizeM)] : [])];
+  const { stdout } = await run(process.execPath, args, { maxBuffer: 1 << 20 });
   return JSON.parse(stdout.trim().split('\n').pop()!) as ChildResult;
 }
 const peak = (c: ChildResult) => c.vmHwmMiB ?? c.peakRssMiB;
@@ -297,25 +298,28 @@ export function fittedExponent(x: number[], y: number[]): number {
 async function memoryRow(cfg: BenchConfig, rows: BenchRow[], inputs: Record<string, string>): Promise<void> {
   const side = Math.max(40, Math.round(250 * Math.sqrt(cfg.scale)));
   const budget = 64;
+  // One grid for all three: the automatic cell edge shrinks as density grows
+  // (1, 0.75, 0.5 m here), which would measure a finer grid, not more points.
+  const cellM = 0.5;
   const cases = [] as { density: number; points: number; off: ChildResult; on: ChildResult }[];
   for (const density of [4, 8, 16]) {
     const { file, points } = await demoFile(`mem-${density}.las`, side, side, density, 5);
-    const off = await child(file, 0), on = await child(file, budget);
+    const off = await child(file, 0, cellM), on = await child(file, budget, cellM);
     cases.push({ density, points, off, on });
   }
-  inputs['memory'] = `invented park ${side} x ${side} m at 4, 8, 16 first returns per m2: ${cases.map((c) => c.points).join(', ')} points`;
+  inputs['memory'] = `invented park ${side} x ${side} m at 4, 8, 16 first returns per m2, ${cellM} m cells: ${cases.map((c) => c.points).join(', ')} points`;
   cfg.log(`  ${inputs['memory']}`);
   const growth = peak(cases[2]!.off) / peak(cases[0]!.off);
   const overBudget = Math.max(...cases.map((c) => (peak(c.on) - peak(c.off)) / budget));
   const ok = growth <= 1.2 && overBudget <= 1;
-  const ctx: Record<string, number | string> = { cacheBudgetMiB: budget, cacheOnExtraOverBudget: r3(overBudget) };
+  const ctx: Record<string, number | string> = { cellSizeM: cellM, cacheBudgetMiB: budget, cacheOnExtraOverBudget: r3(overBudget) };
   for (const c of cases) {
     ctx[`peakRssMiB_${c.density}_cacheOff`] = r3(peak(c.off));
     ctx[`peakArrayBuffersMiB_${c.density}_cacheOff`] = r3(c.off.peakArrayBuffersMiB);
     ctx[`peakRssMiB_${c.density}_cache${budget}`] = r3(peak(c.on));
   }
   rows.push({
-    key: 'memory', figure: 'peak memory at fixed area, 1x / 2x / 4x point density', comparedWith: 'itself (peak RSS, child process per case)',
+    key: 'memory', figure: 'peak memory at fixed area and cell size, 1x / 2x / 4x point density', comparedWith: 'itself (peak RSS, child process per case)',
     target: `4x points <= 1.2x peak RSS with the cache off; with a ${budget} MiB cache, extra memory within the budget`, ratio: r3(growth), status: status(ok),
     context: ctx,
     ...(ok ? {} : { limits: growth > 1.2 ? `peak RSS grows ${growth.toFixed(2)}x with 4x points and the cache off: something still scales with points (decoded chunks in flight, per-point masks, the ground point list); closing it: bound the chunks in flight and reuse per-chunk buffers` : `the cache takes ${(overBudget * budget).toFixed(0)} MiB past the run without it, over its ${budget} MiB budget: chunk accounting counts typed arrays but not their overhead` }),
